@@ -1,0 +1,1 @@
+"""Reading and writing attitude tables and layers."""
