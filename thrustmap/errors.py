@@ -11,6 +11,7 @@ __all__ = [
     "DegenerateDataError",
     "OutputExistsError",
     "ThrustmapWarning",
+    "InputFileError",
 ]
 
 
@@ -67,3 +68,7 @@ class OutputExistsError(ThrustmapError, FileExistsError):
 
 class ThrustmapWarning(UserWarning):
     """Warnings thrustmap raises about data quality or questionable results."""
+
+
+class InputFileError(ThrustmapError, OSError):
+    """An input file or layer that is missing or cannot be opened as the format it claims."""
