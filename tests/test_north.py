@@ -59,7 +59,9 @@ def test_convergence_matches_spherical_transverse_mercator(epsg, lon0, lon, lat)
     central meridian or unit is off by a degree or more.
     """
     x, y = _to_xy(epsg, lon, lat)
-    gamma = math.degrees(math.atan(math.tan(math.radians(lon - lon0)) * math.sin(math.radians(lat))))
+    gamma = math.degrees(
+        math.atan(math.tan(math.radians(lon - lon0)) * math.sin(math.radians(lat)))
+    )
     got = float(convergence(x, y, epsg))
     assert got == pytest.approx(gamma, abs=1e-4)
     # Sign: grid north lies east of true north east of the central meridian in the
@@ -171,7 +173,10 @@ def test_declination_shapes_missing_and_heights():
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [
-        ({"lon": [1.0, 2.0], "lat": [1.0, 2.0], "date": ["2020-01-01"] * 3}, "3 dates for 2 points"),
+        (
+            {"lon": [1.0, 2.0], "lat": [1.0, 2.0], "date": ["2020-01-01"] * 3},
+            "3 dates for 2 points",
+        ),
         ({"lon": 1.0, "lat": 1.0, "date": "1850-01-01"}, "outside the IGRF period"),
         ({"lon": 1.0, "lat": 1.0, "date": "2090-01-01"}, "give the declination directly"),
     ],

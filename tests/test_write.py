@@ -69,7 +69,9 @@ def test_refuses_to_overwrite(tmp_path):
 def test_overwrite_replaces_named_layers_and_keeps_others(tmp_path, engine):
     path = tmp_path / "run.gpkg"
     write_layers(path, {"points": _points(3), "keep": _points(2)}, engine=engine)
-    write_layers(path, {"points": _points(1, offset=5.0), "new": _points(4)}, overwrite=True, engine=engine)
+    write_layers(
+        path, {"points": _points(1, offset=5.0), "new": _points(4)}, overwrite=True, engine=engine
+    )
     assert set(dict(pyogrio.list_layers(path))) == {"points", "keep", "new"}
     assert gpd.read_file(path, layer="points")["dip"].tolist() == [15.0]
     assert len(gpd.read_file(path, layer="keep")) == 2
@@ -101,7 +103,9 @@ def test_failure_half_way_leaves_earlier_file_unchanged(tmp_path, monkeypatch, e
 
     monkeypatch.setattr(write_mod, "_write_one", fail_on_second)
     with pytest.raises(RuntimeError, match="disk full"):
-        write_layers(path, {"points": _points(1), "other": _points(2)}, overwrite=True, engine=engine)
+        write_layers(
+            path, {"points": _points(1), "other": _points(2)}, overwrite=True, engine=engine
+        )
     assert calls == ["points", "other"]
     assert _digest(path) == before
     assert len(gpd.read_file(path, layer="points")) == 3
@@ -127,11 +131,26 @@ def test_creates_missing_folders(tmp_path):
 @pytest.mark.parametrize(
     ("name", "layers", "kwargs", "match"),
     [
-        ("run.csv", {"a": _points()}, {}, r"unknown extension '\.csv'; use one of \.geojson, \.gpkg"),
+        (
+            "run.csv",
+            {"a": _points()},
+            {},
+            r"unknown extension '\.csv'; use one of \.geojson, \.gpkg",
+        ),
         ("run.gpkg", {}, {}, "no layers given"),
-        ("run.geojson", {"a": _points(), "b": _points()}, {}, "GeoJSON holds one layer, got 2 \\(a, b\\)"),
+        (
+            "run.geojson",
+            {"a": _points(), "b": _points()},
+            {},
+            "GeoJSON holds one layer, got 2 \\(a, b\\)",
+        ),
         ("run.shp", {"a": _points(), "b": _points()}, {}, "use a .gpkg file"),
-        ("run.gpkg", {"a": _points()}, {"engine": "gdal"}, "engine='gdal' is not valid; choose one of pyogrio, fiona"),
+        (
+            "run.gpkg",
+            {"a": _points()},
+            {"engine": "gdal"},
+            "engine='gdal' is not valid; choose one of pyogrio, fiona",
+        ),
     ],
 )
 def test_parameter_errors(tmp_path, name, layers, kwargs, match):

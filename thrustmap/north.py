@@ -140,7 +140,9 @@ def declination(
     68.8
     """
     lon_b, lat_b, h_b = np.broadcast_arrays(
-        np.asarray(lon, dtype=float), np.asarray(lat, dtype=float), np.asarray(height_km, dtype=float)
+        np.asarray(lon, dtype=float),
+        np.asarray(lat, dtype=float),
+        np.asarray(height_km, dtype=float),
     )
     shape = lon_b.shape
     lon_f, lat_f, h_f = (a.ravel() for a in (lon_b, lat_b, h_b))
@@ -205,7 +207,7 @@ def convergence(x: ArrayLike, y: ArrayLike, crs: object) -> Float:
     x_b, y_b = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
     missing = ~(np.isfinite(x_b) & np.isfinite(y_b))
     horizontal = _horizontal(pyproj.CRS.from_user_input(crs))
-    if horizontal.is_geographic:
+    if horizontal.is_geographic or x_b.size == 0:
         return np.where(missing, np.nan, 0.0)
     to_geo = pyproj.Transformer.from_crs(horizontal, horizontal.geodetic_crs, always_xy=True)
     lon, lat = to_geo.transform(x_b, y_b)
@@ -231,7 +233,9 @@ def magnetic_to_true(azimuth: ArrayLike, declination: ArrayLike) -> Float:
     >>> magnetic_to_true([350.0, 10.0], 15.0).tolist()
     [5.0, 25.0]
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) + np.asarray(declination, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) + np.asarray(declination, dtype=float)
+    )
 
 
 def true_to_magnetic(azimuth: ArrayLike, declination: ArrayLike) -> Float:
@@ -242,7 +246,9 @@ def true_to_magnetic(azimuth: ArrayLike, declination: ArrayLike) -> Float:
     >>> true_to_magnetic([5.0, 25.0], 15.0).tolist()
     [350.0, 10.0]
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) - np.asarray(declination, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) - np.asarray(declination, dtype=float)
+    )
 
 
 def true_to_grid(azimuth: ArrayLike, convergence: ArrayLike) -> Float:
@@ -253,7 +259,9 @@ def true_to_grid(azimuth: ArrayLike, convergence: ArrayLike) -> Float:
     >>> true_to_grid([1.0, 90.0], 2.0).tolist()
     [359.0, 88.0]
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) - np.asarray(convergence, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) - np.asarray(convergence, dtype=float)
+    )
 
 
 def grid_to_true(azimuth: ArrayLike, convergence: ArrayLike) -> Float:
@@ -264,4 +272,6 @@ def grid_to_true(azimuth: ArrayLike, convergence: ArrayLike) -> Float:
     >>> grid_to_true([359.0, 88.0], 2.0).tolist()
     [1.0, 90.0]
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) + np.asarray(convergence, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) + np.asarray(convergence, dtype=float)
+    )
