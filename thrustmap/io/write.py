@@ -151,9 +151,13 @@ def _write_table_fiona(path: Path, frame: pd.DataFrame, *, driver: str, **layer:
     import fiona
     from geopandas.io.file import infer_schema
 
-    carrier = gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries([None] * len(frame), index=frame.index))
+    carrier = gpd.GeoDataFrame(
+        frame, geometry=gpd.GeoSeries([None] * len(frame), index=frame.index)
+    )
     schema = infer_schema(carrier)
     schema["geometry"] = "None"
-    features = ({"geometry": None, "properties": f["properties"]} for f in carrier.iterfeatures(na="null"))
+    features = (
+        {"geometry": None, "properties": f["properties"]} for f in carrier.iterfeatures(na="null")
+    )
     with fiona.open(path, "w", driver=driver, schema=schema, **layer) as dst:
         dst.writerecords(features)
