@@ -206,6 +206,10 @@ BAD_ROWS = [
     ("B18,716000,5090000,fault,,030,60,40,sideways,,2024-05-01,,", "unparseable"),
     ("B19,717000,5090000,bedding,030/45,,,,,maybe,2024-05-01,,", "unparseable"),
     ("B20,718000,5090000,lineation,099/95,,,,,,2024-05-01,,", "plunge_out_of_range"),
+    ("B21,719000,5090000,bedding,030/45,,,,,,,,", "bad_date"),
+    ("B22,720000,5090000,lineation,,,,40,,,2024-05-01,,", "missing_attitude"),
+    ("B23,721000,5090000,fault,,045,60,30SE,,,2024-05-01,,", "letter_contradicts_strike"),
+    ("B24,722000,5090000,fault,,045,60,30NN,,,2024-05-01,,", "unparseable"),
     (",,,,,,,,,,,,", "empty_row"),
 ]
 
@@ -263,6 +267,13 @@ def test_vector_rows_without_points():
     row = result.rejected.set_index("source_row").loc[3]
     assert row["value"] == "LineString"
     assert row["orig_geometry"].startswith("LINESTRING")
+
+
+def test_named_xy_columns_win_over_geometry():
+    gdf = _stations().assign(e2=710_000.0, n2=5_095_000.0)
+    acc = read_attitudes(gdf, columns={"x": "e2", "y": "n2"}).accepted
+    assert acc.geometry.x.tolist() == [710_000.0] * 5
+    assert acc.geometry.y.tolist() == [5_095_000.0] * 5
 
 
 def test_flags_on_accepted_rows():
@@ -552,7 +563,9 @@ _LETTERS = ["N", "NE", "E", "SE", "S", "SW", "W", "NW"]
         st.tuples(
             st.integers(0, 3599).map(lambda v: v / 10.0),
             st.integers(0, 900).map(lambda v: v / 10.0),
-            st.sampled_from(["rhr", "dipdir", "letter", "quadrant", "line", "line_quadrant"]),
+            st.sampled_from(
+                ["rhr", "dipdir", "letter", "quadrant", "columns", "line", "line_quadrant"]
+            ),
         ),
         min_size=1,
         max_size=30,
@@ -560,7 +573,7 @@ _LETTERS = ["N", "NE", "E", "SE", "S", "SW", "W", "NW"]
 )
 def test_notations_round_trip(items):
     """Any plane or line written in any accepted notation reads back as written."""
-    texts, features, expected = [], [], []
+    texts, features, expected, strikes, dips = [], [], [], [], []
     for dd, dip, style in items:
         strike = (dd - 90.0) % 360.0
         letter = _LETTERS[int(((dd + 22.5) % 360.0) // 45.0)]
@@ -572,10 +585,14 @@ def test_notations_round_trip(items):
             texts.append(f"{(strike + 180.0) % 360.0:g}/{dip:g}{letter}")
         elif style == "quadrant":
             texts.append(f"{_quadrant(strike)} {dip:g}{letter}")
+        elif style == "columns":
+            texts.append("")
         elif style == "line":
             texts.append(f"{dd:g}/{dip:g}")
         else:
             texts.append(f"{_quadrant(dd)} {dip:g}")
+        strikes.append(strike if style == "columns" else np.nan)
+        dips.append(dip if style == "columns" else np.nan)
         features.append("lineation" if style.startswith("line") else "bedding")
         expected.append((style, dd, dip))
     n = len(texts)
@@ -585,6 +602,8 @@ def test_notations_round_trip(items):
             "y": np.full(n, 5_090_000.0),
             "feature": features,
             "attitude": texts,
+            "strike": strikes,
+            "dip": dips,
         }
     )
     by_strike = read_attitudes(table, crs=UTM33)

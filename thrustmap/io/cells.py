@@ -152,6 +152,10 @@ def _unique_apply(
 def read_features(
     cells: dict[str, Cells], default: str, n: int, verdicts: RowVerdicts
 ) -> tuple[NDArray[np.object_], Bool]:
+    """Canonical feature per row and a mask of rows that took ``default`` (empty cell).
+
+    Rows naming no known feature are rejected as ``unknown_feature``.
+    """
     if "feature" not in cells:
         return np.full(n, default, dtype=object), np.zeros(n, dtype=bool)
     c = cells["feature"]
@@ -169,6 +173,11 @@ def read_words(
     verdicts: RowVerdicts,
     accepted: str,
 ) -> NDArray[np.object_]:
+    """Canonical values of the ``name`` column through ``words``; ``missing`` where absent.
+
+    Rows with a word outside the vocabulary are rejected as ``unparseable``, the
+    message listing what is ``accepted``.
+    """
     n = verdicts.reason.size
     if name not in cells:
         return np.full(n, missing, dtype=object)
@@ -468,6 +477,13 @@ def _rake_lines(att: Attitudes, rows: Bool, c: Cells, verdicts: RowVerdicts) -> 
     )
     verdicts.reject(rows & readable & (angle > 180.0), "rake_out_of_range", c.header, c.text)
     from_az = np.array([_LETTER_AZ.get(s, np.nan) for s in letter], dtype=float)
+    verdicts.reject(
+        rows & (letter != "") & np.isnan(from_az),
+        "unparseable",
+        c.header,
+        c.text,
+        "rake: the strike end is a compass letter such as N, NE or SW",
+    )
     strike = dip_direction_to_strike(att.dip_direction)
     off = np.abs((from_az - strike + 180.0) % 360.0 - 180.0)
     verdicts.reject(

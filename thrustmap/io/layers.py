@@ -18,14 +18,14 @@ import pandas as pd
 
 from thrustmap.errors import InputFileError, ParameterError
 
-__all__ = ["read_layer", "TEXT_SUFFIXES", "SHEET_SUFFIXES"]
+__all__ = ["read_layer", "ENGINES", "TEXT_SUFFIXES", "SHEET_SUFFIXES"]
 
 log = logging.getLogger(__name__)
 
 TEXT_SUFFIXES = (".csv", ".tsv", ".txt")
 SHEET_SUFFIXES = (".xlsx", ".xlsm")
 _DELIMITERS = (",", ";", "\t", "|")
-_ENGINES = ("pyogrio", "fiona")
+ENGINES = ("pyogrio", "fiona")
 
 
 def read_layer(
@@ -69,8 +69,8 @@ def read_layer(
     path = Path(source)
     if not path.exists():
         raise InputFileError(f"file {path} does not exist")
-    if engine is not None and engine not in _ENGINES:
-        raise ParameterError(f"engine={engine!r} is not valid; choose one of {', '.join(_ENGINES)}")
+    if engine is not None and engine not in ENGINES:
+        raise ParameterError(f"engine={engine!r} is not valid; choose one of {', '.join(ENGINES)}")
     suffix = path.suffix.lower()
     if suffix in TEXT_SUFFIXES:
         if layer is not None:

@@ -18,13 +18,13 @@ import geopandas as gpd
 import pandas as pd
 
 from thrustmap.errors import OutputExistsError, ParameterError
+from thrustmap.io.layers import ENGINES
 
-__all__ = ["write_layers", "DRIVERS", "ENGINES"]
+__all__ = ["write_layers", "DRIVERS"]
 
 log = logging.getLogger(__name__)
 
 DRIVERS = {".gpkg": "GPKG", ".geojson": "GeoJSON", ".json": "GeoJSON", ".shp": "ESRI Shapefile"}
-ENGINES = ("pyogrio", "fiona")
 
 # Files making up one shapefile; an old spatial index must not outlive its data.
 _SHAPEFILE_PARTS = (".shp", ".shx", ".dbf", ".prj", ".cpg", ".qix", ".sbn", ".sbx")
