@@ -254,6 +254,7 @@ def read_attitudes(
     _check_choice(azimuth_ref, "azimuth_ref", AZIMUTH_REFS)
     _check_choice(plane_azimuth, "plane_azimuth", _PLANE_AZIMUTHS)
     default = _default_feature(default_feature)
+    work_given = _given_working_crs(working_crs)
     frame, where, label = _load(source, layer, engine)
     src_crs = _source_crs(frame, crs, where)
     geom_name = _geometry_name(frame)
@@ -299,7 +300,7 @@ def read_attitudes(
         offset = np.zeros(n)
 
     ok = verdicts.ok
-    work_crs = _working_crs(working_crs, src_crs, lon[ok], lat[ok])
+    work_crs = _working_crs(work_given, src_crs, lon[ok], lat[ok])
     sel = np.flatnonzero(ok)
     points = gpd.GeoSeries(shapely.points(x[sel], y[sel]), crs=src_crs).to_crs(work_crs)
     conv = convergence(points.x.to_numpy(), points.y.to_numpy(), work_crs)
@@ -597,9 +598,6 @@ def _check_area(
     return lon, lat
 
 
-# --------------------------------------------------------------------------- attitudes
-
-
 # --------------------------------------------------------------------------- north
 
 
@@ -664,19 +662,23 @@ def _declinations(
     return decl
 
 
-def _working_crs(working_crs: object, src: pyproj.CRS, lon: Float, lat: Float) -> pyproj.CRS:
-    if working_crs is not None:
-        try:
-            work = pyproj.CRS.from_user_input(working_crs)
-        except pyproj.exceptions.CRSError as exc:
-            raise CRSError(
-                f"working_crs={working_crs!r} is not a CRS pyproj knows ({exc})"
-            ) from exc
-        if not (work.is_projected and _metric(work)):
-            raise ParameterError(
-                f"working_crs={working_crs!r} must be a projected CRS in metres; {work.name} is not"
-            )
-        return work
+def _given_working_crs(working_crs: object) -> pyproj.CRS | None:
+    if working_crs is None:
+        return None
+    try:
+        work = pyproj.CRS.from_user_input(working_crs)
+    except pyproj.exceptions.CRSError as exc:
+        raise CRSError(f"working_crs={working_crs!r} is not a CRS pyproj knows ({exc})") from exc
+    if not (work.is_projected and _metric(work)):
+        raise ParameterError(
+            f"working_crs={working_crs!r} must be a projected CRS in metres; {work.name} is not"
+        )
+    return work
+
+
+def _working_crs(given: pyproj.CRS | None, src: pyproj.CRS, lon: Float, lat: Float) -> pyproj.CRS:
+    if given is not None:
+        return given
     if src.is_projected and _metric(src):
         return src
     if lon.size == 0:
