@@ -619,3 +619,22 @@ def test_notations_round_trip(items):
         )
         assert got_angle == pytest.approx(dip, abs=1e-9)
         assert (got_az - dd + 180.0) % 360.0 - 180.0 == pytest.approx(0.0, abs=1e-9)
+
+
+def test_contract_field_sheet_layout(tmp_path):
+    """The synthetic field sheet's columns (stn, lon, lat, type, attitude, date, notes) are
+    found without a mapping; magnetic azimuths take the IGRF declination of each row's date."""
+    text = (
+        "stn,lon,lat,type,attitude,date,notes\n"
+        "S1,18.1,45.9,bedding,N30E 45SE,2024-05-17,<script>alert(1)</script>\n"
+        "S2,18.2,45.9,hinge line,N80E 12,2024-05-18,\n"
+    )
+    result = read_attitudes(_csv(tmp_path, text), crs="EPSG:4326", azimuth_ref="magnetic")
+    acc = result.accepted
+    assert result.crs.to_epsg() == 32634  # estimate_utm_crs: 18.1-18.2 E lies in zone 34
+    expected = igrf_declination([18.1, 18.2], [45.9, 45.9], ["2024-05-17", "2024-05-18"])
+    np.testing.assert_allclose(acc["declination"], expected)
+    np.testing.assert_allclose(acc["dip_direction"].iloc[0], 120.0 + expected[0])
+    np.testing.assert_allclose(acc["trend"].iloc[1], 80.0 + expected[1])
+    assert acc["notes"].tolist()[0] == "<script>alert(1)</script>"  # kept verbatim, as data
+    assert acc["feature"].tolist() == ["bedding", "hinge_line"]
