@@ -197,7 +197,7 @@ BAD_ROWS = [
     ("B10,,5090000,bedding,030/45,,,,,,2024-05-01,,", "missing_coordinates"),
     ("B11,abc,5090000,bedding,030/45,,,,,,2024-05-01,,", "missing_coordinates"),
     ("B12,5090000,710000,bedding,030/45,,,,,,2024-05-01,,", "outside_crs_area"),
-    ("G1,700100,5090000,bedding,030/45,,,,,,2024-05-01,,", "duplicate"),
+    ("G1,700100,5090000,bedding,030/45,,,,,,2024-05-01,,", "duplicate_row"),
     ("B13,711000,5090000,dyke,030/45,,,,,,2024-05-01,,", "unknown_feature"),
     ("B14,712000,5090000,bedding,030/45,,,,,,17/05/2024,,", "bad_date"),
     ("B15,713000,5090000,bedding,030/45,,,,,,1850-01-01,,", "bad_date"),
@@ -239,7 +239,7 @@ def test_zero_loss_on_every_kind_of_bad_row(tmp_path):
         if r["field"]:
             assert f"field {r['field']!r}, value {r['value']!r}" in r["message"]
     assert list(rej.columns[:5]) == list(REJECT_COLUMNS)
-    dup = rej[rej["reason"] == "duplicate"].iloc[0]
+    dup = rej[rej["reason"] == "duplicate_row"].iloc[0]
     assert "same as row 1" in dup["message"]
     # the summary has one line per reason, plus the total line
     assert len(result.summary().splitlines()) == 1 + len(expected)

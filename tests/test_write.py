@@ -47,7 +47,7 @@ def test_round_trip_per_driver(tmp_path, engine, name):
 
 def test_geopackage_layers_and_tables(tmp_path, engine):
     path = tmp_path / "run.gpkg"
-    table = pd.DataFrame({"reason": ["dip_out_of_range", "duplicate"], "count": [2, 1]})
+    table = pd.DataFrame({"reason": ["dip_out_of_range", "duplicate_row"], "count": [2, 1]})
     write_layers(path, {"points": _points(), "counts": table}, engine=engine)
     listed = dict(pyogrio.list_layers(path))
     assert listed == {"points": "Point", "counts": None}

@@ -510,7 +510,7 @@ def _check_empty_and_duplicates(
         first = pd.Series(rows).groupby(hashes).transform("min").to_numpy()
         detail = np.full(rows.size, "", dtype=object)
         detail[dup] = [f"same as row {r}" for r in first[dup]]
-        verdicts.reject(dup, "duplicate", "", "", detail)
+        verdicts.reject(dup, "duplicate_row", "", "", detail)
 
 
 def _coordinates(

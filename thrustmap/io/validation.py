@@ -19,7 +19,7 @@ __all__ = ["REASONS", "FLAGS", "RowVerdicts", "join_flags", "reason_counts"]
 # reason code -> (what is wrong, what is accepted)
 REASONS: dict[str, tuple[str, str]] = {
     "empty_row": ("the row is empty", "a row with coordinates and an attitude"),
-    "duplicate": ("the row repeats an earlier row exactly", "each measurement once"),
+    "duplicate_row": ("the row repeats an earlier row exactly", "each measurement once"),
     "missing_coordinates": (
         "coordinates are missing or not finite numbers",
         "numeric coordinates in the CRS (or a point geometry)",
@@ -103,9 +103,9 @@ class RowVerdicts:
     --------
     >>> v = RowVerdicts(3)
     >>> v.reject([False, True, True], "dip_out_of_range", "Dip", ["10", "95", "-3"])
-    >>> v.reject([True, True, False], "duplicate", "", "")
+    >>> v.reject([True, True, False], "duplicate_row", "", "")
     >>> v.reason.tolist(), v.ok.tolist()
-    (['duplicate', 'dip_out_of_range', 'dip_out_of_range'], [False, False, False])
+    (['duplicate_row', 'dip_out_of_range', 'dip_out_of_range'], [False, False, False])
     """
 
     def __init__(self, n: int) -> None:
