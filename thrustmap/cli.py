@@ -136,6 +136,7 @@ def _add_tool_parser(subparsers: Any, tool: Tool) -> argparse.ArgumentParser:
         description="\n".join(lines),
         epilog=_example_line(tool),
         formatter_class=argparse.RawDescriptionHelpFormatter,
+        allow_abbrev=False,
     )
     for i in tool.inputs:
         text = f"{i.help.rstrip('.')} ({i.geometry}; FILE or FILE:LAYER)".strip()
@@ -190,8 +191,10 @@ def build_parser(tools: Sequence[Tool] | None = None) -> argparse.ArgumentParser
     True
     """
     tools = registry.list_tools() if tools is None else tools
+    # No abbreviated options: a parameter added later must not change what old commands mean.
     parser = argparse.ArgumentParser(
         prog="thrustmap",
+        allow_abbrev=False,
         description="Geoprocessing for fold-and-thrust belt mapping. Results are interpretive aids "
         "to be reviewed by a qualified geologist; local codes and licensed practice prevail.",
         epilog="`thrustmap TOOL --help` describes a tool's inputs, parameters and outputs.",
@@ -199,14 +202,20 @@ def build_parser(tools: Sequence[Tool] | None = None) -> argparse.ArgumentParser
     parser.add_argument("--version", action="version", version=f"thrustmap {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", required=True)
 
-    listing = sub.add_parser("tools", help="List the installed tools (and broken plugins).")
+    listing = sub.add_parser(
+        "tools", allow_abbrev=False, help="List the installed tools (and broken plugins)."
+    )
     listing.add_argument(
         "--json", action="store_true", help="Describe every tool as JSON, for GIS hosts."
     )
     _add_logging(listing)
     listing.set_defaults(handler=_list_tools)
 
-    run = sub.add_parser("run", help="Run a TOML project file: every step, one GeoPackage per run.")
+    run = sub.add_parser(
+        "run",
+        allow_abbrev=False,
+        help="Run a TOML project file: every step, one GeoPackage per run.",
+    )
     run.add_argument("project", type=Path, help="The project file (.toml).")
     run.add_argument(
         "--out", type=Path, metavar="DIR", help="Output folder instead of the project's."
@@ -215,7 +224,11 @@ def build_parser(tools: Sequence[Tool] | None = None) -> argparse.ArgumentParser
     _add_logging(run)
     run.set_defaults(handler=_run_project)
 
-    demo = sub.add_parser("demo", help=f"Run the synthetic demo project {DEMO_PROJECT.as_posix()}.")
+    demo = sub.add_parser(
+        "demo",
+        allow_abbrev=False,
+        help=f"Run the synthetic demo project {DEMO_PROJECT.as_posix()}.",
+    )
     _add_logging(demo)
     demo.set_defaults(handler=_run_demo)
 

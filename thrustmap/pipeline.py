@@ -554,7 +554,7 @@ def _check_ref(
 
 
 def _check_unique_outputs(check: _Checker, steps: list[Step]) -> None:
-    owners: dict[str, str] = {PROVENANCE_LAYER: "the run itself"}
+    owners: dict[str, str] = {f"layer {PROVENANCE_LAYER}": "the run itself"}
     for index, step in enumerate(steps):
         for out in step.tool.outputs:
             kind = "layer" if isinstance(out, LayerOutput) else "file"

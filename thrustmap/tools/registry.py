@@ -25,7 +25,7 @@ from importlib import metadata
 
 from thrustmap.errors import ParameterError, ToolLoadError
 from thrustmap.tools.declare import Tool
-from thrustmap.tools.options import check_common_params
+from thrustmap.tools.options import COMMON_OPTIONS, check_common_params
 
 __all__ = [
     "ENTRY_POINT_GROUP",
@@ -42,6 +42,7 @@ log = logging.getLogger(__name__)
 ENTRY_POINT_GROUP = "thrustmap.tools"
 #: Command names of the command line itself; no tool may take them.
 RESERVED_NAMES = frozenset({"tools", "run", "demo", "help"})
+_SHARED_NAMES = frozenset(o.name for o in COMMON_OPTIONS)
 _NAME = re.compile(r"^[a-z][a-z0-9]*(-[a-z0-9]+)*$")
 _PARAM = re.compile(r"^[a-z][a-z0-9_]*$")
 
@@ -160,6 +161,9 @@ def _problems(tool: Tool, known: dict[str, Tool]) -> list[str]:
     for name in names:
         if not _PARAM.match(name):
             problems.append(f"input or parameter name {name!r} must be snake_case")
+    for i in tool.inputs:
+        if i.name in _SHARED_NAMES:
+            problems.append(f"input name {i.name!r} is the name of a shared option")
     duplicated = sorted({n for n in names if names.count(n) > 1})
     if duplicated:
         problems.append(f"names used twice among inputs and parameters: {', '.join(duplicated)}")
