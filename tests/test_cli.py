@@ -1,8 +1,8 @@
 """The generated command line: every tool runs from its example, exit codes, messages, listing."""
 
 import json
-import re
 import os
+import re
 import subprocess
 import sys
 from pathlib import Path
@@ -15,12 +15,14 @@ import shapely
 
 from thrustmap.cli import main
 from thrustmap.tools import registry
-from thrustmap.tools.declare import FileOutput, LayerOutput
+from thrustmap.tools.declare import LayerOutput
 from thrustmap.tools.runner import example_invocation
 
 ROOT = Path(__file__).resolve().parents[1]
 # An empty registry must fail this module, not skip it.
-TOOL_NAMES = [t.name for t in registry.list_tools()] or ["<no tool registered: is thrustmap installed?>"]
+TOOL_NAMES = [t.name for t in registry.list_tools()] or [
+    "<no tool registered: is thrustmap installed?>"
+]
 
 
 def _argv(tool, sources, params, out):
@@ -98,14 +100,24 @@ def test_tools_json_describes_every_tool(plugin, capsys):
     doc = json.loads(capsys.readouterr().out)
     assert doc["entry_point_group"] == "thrustmap.tools"
     assert {o["flag"] for o in doc["shared_options"]} >= {
-        "--crs", "--layer", "--azimuth-ref", "--out", "--overwrite", "--quiet", "--verbose"
+        "--crs",
+        "--layer",
+        "--azimuth-ref",
+        "--out",
+        "--overwrite",
+        "--quiet",
+        "--verbose",
     }
     tools = {t["name"]: t for t in doc["tools"]}
     assert set(tools) == {t.name for t in registry.list_tools()}
     count = tools["count-rows"]
     assert count["usage"].startswith("thrustmap count-rows")
     multiplier = next(p for p in count["params"] if p["name"] == "multiplier")
-    assert (multiplier["flag"], multiplier["minimum"], multiplier["maximum"]) == ("--multiplier", 1, 10)
+    assert (multiplier["flag"], multiplier["minimum"], multiplier["maximum"]) == (
+        "--multiplier",
+        1,
+        10,
+    )
     assert [o["kind"] for o in count["outputs"]] == ["layer", "file", "folder"]
     assert any(b["name"] == "missing" for b in doc["broken"])
 
@@ -131,40 +143,69 @@ def _layers(folder):
 
 # (argv with {table}, {layers}, {out} placeholders, message expected on stderr)
 BAD_USAGE = [
-    (["convert-attitudes", "{table}", "--out", "{out}", "--kind", "bent"],
-     r"parameter 'kind' = 'bent' is not one of: plane, line"),
-    (["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "11"],
-     r"parameter 'multiplier' = 11 is above the maximum 10"),
-    (["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "0"],
-     r"parameter 'multiplier' = 0 is below the minimum 1"),
-    (["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "2.5"],
-     r"parameter 'multiplier' must be of type int; got '2.5'"),
-    (["count-rows", "{layers}:points", "--out", "{out}", "--azimuth-ref", "north"],
-     r"parameter 'azimuth_ref' = 'north' is not one of: true, grid, magnetic"),
-    (["count-rows", "{layers}:nowhere", "--out", "{out}"],
-     r"file .*layers.gpkg, layer nowhere: no such layer; layers are: points, mixed"),
-    (["count-rows", "{layers}", "--out", "{out}"],
-     r"file .*layers.gpkg: holds 2 layers; name one as FILE:LAYER \(or --layer\): points, mixed"),
-    (["count-rows", "{layers}", "--layer", "nowhere", "--out", "{out}"],
-     r"layer nowhere: no such layer"),
-    (["count-rows", "{layers}:mixed", "--out", "{out}"],
-     r"file .*layers.gpkg, layer mixed, row 2: input 'features' expects point geometries; found LineString"),
-    (["count-rows", "{table}", "--out", "{out}"],
-     r"file .*sheet.csv: input 'features' expects a point layer; found a table without geometry"),
-    (["convert-attitudes", "{missing}", "--out", "{out}"],
-     r"file .*no_such_file.csv: not found"),
-    (["convert-attitudes", "{table}", "--out", "{out}", "--column", "attitudes"],
-     r"file .*sheet.csv, field 'attitudes': no attitude column 'attitudes'; columns are: stn, attitude"),
-    (["convert-attitudes", "{table}", "--out", "{out}", "--crs", "EPSG:4326"],
-     r"working CRS 'EPSG:4326' \(WGS 84\) is not projected"),
-    (["convert-attitudes", "{table}", "--out", "{out}", "--crs", "EPSG:999999"],
-     r"unknown CRS 'EPSG:999999'"),
-    (["convert-attitudes", "{table}", "--out", "{out}", "--colum", "x"],
-     r"unrecognized arguments: --colum x"),
+    (
+        ["convert-attitudes", "{table}", "--out", "{out}", "--kind", "bent"],
+        r"parameter 'kind' = 'bent' is not one of: plane, line",
+    ),
+    (
+        ["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "11"],
+        r"parameter 'multiplier' = 11 is above the maximum 10",
+    ),
+    (
+        ["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "0"],
+        r"parameter 'multiplier' = 0 is below the minimum 1",
+    ),
+    (
+        ["count-rows", "{layers}:points", "--out", "{out}", "--multiplier", "2.5"],
+        r"parameter 'multiplier' must be of type int; got '2.5'",
+    ),
+    (
+        ["count-rows", "{layers}:points", "--out", "{out}", "--azimuth-ref", "north"],
+        r"parameter 'azimuth_ref' = 'north' is not one of: true, grid, magnetic",
+    ),
+    (
+        ["count-rows", "{layers}:nowhere", "--out", "{out}"],
+        r"file .*layers.gpkg, layer nowhere: no such layer; layers are: points, mixed",
+    ),
+    (
+        ["count-rows", "{layers}", "--out", "{out}"],
+        r"file .*layers.gpkg: holds 2 layers; name one as FILE:LAYER \(or --layer\): points, mixed",
+    ),
+    (
+        ["count-rows", "{layers}", "--layer", "nowhere", "--out", "{out}"],
+        r"layer nowhere: no such layer",
+    ),
+    (
+        ["count-rows", "{layers}:mixed", "--out", "{out}"],
+        r"file .*layers.gpkg, layer mixed, row 2: input 'features' expects point geometries; found LineString",
+    ),
+    (
+        ["count-rows", "{table}", "--out", "{out}"],
+        r"file .*sheet.csv: input 'features' expects a point layer; found a table without geometry",
+    ),
+    (["convert-attitudes", "{missing}", "--out", "{out}"], r"file .*no_such_file.csv: not found"),
+    (
+        ["convert-attitudes", "{table}", "--out", "{out}", "--column", "attitudes"],
+        r"file .*sheet.csv, field 'attitudes': no attitude column 'attitudes'; columns are: stn, attitude",
+    ),
+    (
+        ["convert-attitudes", "{table}", "--out", "{out}", "--crs", "EPSG:4326"],
+        r"working CRS 'EPSG:4326' \(WGS 84\) is not projected",
+    ),
+    (
+        ["convert-attitudes", "{table}", "--out", "{out}", "--crs", "EPSG:999999"],
+        r"unknown CRS 'EPSG:999999'",
+    ),
+    (
+        ["convert-attitudes", "{table}", "--out", "{out}", "--colum", "x"],
+        r"unrecognized arguments: --colum x",
+    ),
     (["convert-attitudes", "{table}"], r"the following arguments are required: --out"),
     (["convert-attitudes", "--out", "{out}"], r"the following arguments are required: TABLE"),
-    (["convert-attitude", "{table}", "--out", "{out}"],
-     r"unknown tool 'convert-attitude'; installed tools are: .*convert-attitudes"),
+    (
+        ["convert-attitude", "{table}", "--out", "{out}"],
+        r"unknown tool 'convert-attitude'; installed tools are: .*convert-attitudes",
+    ),
 ]
 
 
@@ -183,7 +224,13 @@ def test_bad_usage_exits_2_naming_the_problem(plugin, tmp_path, capsys, argv, me
 
 
 def test_failure_while_processing_exits_1(plugin, tmp_path, capsys):
-    argv = ["count-rows", f"{_layers(tmp_path)}:points", "--out", str(tmp_path / "o.gpkg"), "--fail"]
+    argv = [
+        "count-rows",
+        f"{_layers(tmp_path)}:points",
+        "--out",
+        str(tmp_path / "o.gpkg"),
+        "--fail",
+    ]
     assert main(argv) == 1
     assert "RuntimeError: the test plugin was asked to fail" in capsys.readouterr().err
     assert not (tmp_path / "o.gpkg").exists()
@@ -227,21 +274,46 @@ def test_subprocess_module_entry_with_plugin(tmp_path):
     env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(site)]))
     listing = subprocess.run(
         [sys.executable, "-m", "thrustmap.cli", "tools", "--json"],
-        capture_output=True, text=True, env=env, check=False,
+        capture_output=True,
+        text=True,
+        env=env,
+        check=False,
     )
     assert listing.returncode == 0, listing.stderr
     assert "count-rows" in {t["name"] for t in json.loads(listing.stdout)["tools"]}
     out = tmp_path / "o.gpkg"
     run = subprocess.run(
-        [sys.executable, "-m", "thrustmap.cli", "convert-attitudes", str(_table(tmp_path)),
-         "--out", str(out), "--kind", "plane"],
-        capture_output=True, text=True, env=env, check=False,
+        [
+            sys.executable,
+            "-m",
+            "thrustmap.cli",
+            "convert-attitudes",
+            str(_table(tmp_path)),
+            "--out",
+            str(out),
+            "--kind",
+            "plane",
+        ],
+        capture_output=True,
+        text=True,
+        env=env,
+        check=False,
     )
     assert run.returncode == 0, run.stderr
     assert pyogrio.list_layers(out)[:, 0].tolist() == ["converted_attitudes"]
     bad = subprocess.run(
-        [sys.executable, "-m", "thrustmap.cli", "convert-attitudes", str(tmp_path / "none.csv"),
-         "--out", str(tmp_path / "other.gpkg")],
-        capture_output=True, text=True, env=env, check=False,
+        [
+            sys.executable,
+            "-m",
+            "thrustmap.cli",
+            "convert-attitudes",
+            str(tmp_path / "none.csv"),
+            "--out",
+            str(tmp_path / "other.gpkg"),
+        ],
+        capture_output=True,
+        text=True,
+        env=env,
+        check=False,
     )
     assert bad.returncode == 2 and "none.csv: not found" in bad.stderr

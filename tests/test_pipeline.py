@@ -30,7 +30,15 @@ def demo_dir(tmp_path):
         pd.DataFrame(
             [
                 ["A1", "15.71", "45.93", "bedding", "N30E 45SE", "2024-06-01", ""],
-                ["A2", "15.72", "45.94", "bedding", "210/45NW", "2024-06-01", "<script>alert(1)</script>"],
+                [
+                    "A2",
+                    "15.72",
+                    "45.94",
+                    "bedding",
+                    "210/45NW",
+                    "2024-06-01",
+                    "<script>alert(1)</script>",
+                ],
                 ["A3", "15.73", "45.95", "bedding", "123/95", "2024-06-02", "dip over 90"],
             ],
             columns=FIELD_SHEET_COLUMNS,
@@ -58,7 +66,10 @@ def test_demo_equals_run_of_the_project(demo_dir, monkeypatch, capsys):
         a = gpd.read_file(demo, layer=layer, engine="pyogrio")
         b = gpd.read_file(again, layer=layer, engine="pyogrio")
         if layer == PROVENANCE_LAYER:
-            a, b = a.drop(columns=["started_utc", "seconds"]), b.drop(columns=["started_utc", "seconds"])
+            a, b = (
+                a.drop(columns=["started_utc", "seconds"]),
+                b.drop(columns=["started_utc", "seconds"]),
+            )
         pd.testing.assert_frame_equal(a, b)
     assert "thrustmap.gpkg: layer provenance" in capsys.readouterr().out
 
@@ -126,31 +137,60 @@ INVALID = [
     (_edit(2, 'nmae = "t"'), r"line 2: unknown key 'nmae' in \[project\]; valid keys: name,"),
     (BASE + ["[outputs]", "x = 1"], r"line 23: unknown key 'outputs' in the top level"),
     (_edit(11, 'layr = "points"'), r"line 11: unknown key 'layr' in \[inputs.points\]"),
-    (_edit(16, 'params = { colum = "attitude" }'),
-     r"line 16: unknown key 'colum' in \[\[steps\]\] #1 \(convert-attitudes\) params; "
-     r"parameters are: column, kind, azimuth"),
-    (_edit(22, "params = { multiplier = 20 }"),
-     r"line 22: count-rows: parameter 'multiplier' = 20 is above the maximum 10"),
-    (_edit(22, 'params = { multiplier = 2, fail = "perhaps" }'),
-     r"line 22: count-rows: parameter 'fail' must be of type bool; got 'perhaps'"),
-    (_edit(7, 'azimuth_ref = "north"'), r"line 7: \[inputs.sheet\]: parameter 'azimuth_ref' = 'north'"),
+    (
+        _edit(16, 'params = { colum = "attitude" }'),
+        r"line 16: unknown key 'colum' in \[\[steps\]\] #1 \(convert-attitudes\) params; "
+        r"parameters are: column, kind, azimuth",
+    ),
+    (
+        _edit(22, "params = { multiplier = 20 }"),
+        r"line 22: count-rows: parameter 'multiplier' = 20 is above the maximum 10",
+    ),
+    (
+        _edit(22, 'params = { multiplier = 2, fail = "perhaps" }'),
+        r"line 22: count-rows: parameter 'fail' must be of type bool; got 'perhaps'",
+    ),
+    (
+        _edit(7, 'azimuth_ref = "north"'),
+        r"line 7: \[inputs.sheet\]: parameter 'azimuth_ref' = 'north'",
+    ),
     (_edit(7, 'date = "June"'), r"line 7: date 'June' in \[inputs.sheet\] is not an ISO date"),
-    (_edit(3, 'crs = "EPSG:4326"'), r"line 3: .*working CRS 'EPSG:4326' \(WGS 84\) is not projected"),
-    (_edit(20, 'tool = "count-rowz"'), r"line 20: unknown tool 'count-rowz'; installed tools are: "),
-    (_edit(21, 'inputs = { feature = "points" }'),
-     r"line 21: unknown key 'feature' in \[\[steps\]\] #2 \(count\) inputs; count-rows inputs are: "
-     r"features, extra, domains"),
-    (_edit(21, 'inputs = { features = "nope" }'),
-     r"line 21: .* reads 'nope', which is neither a project input nor an output of an earlier step; "
-     r"choose one of: sheet, points, convert-attitudes.converted_attitudes"),
-    (_edit(21, 'inputs = { features = "convert-attitudes.rejects" }'),
-     r"line 21: .*step 'convert-attitudes' has no layer output 'rejects'"),
-    (_edit(19, 'id = "convert-attitudes"'), r"line 19: .*step id 'convert-attitudes' is already used"),
+    (
+        _edit(3, 'crs = "EPSG:4326"'),
+        r"line 3: .*working CRS 'EPSG:4326' \(WGS 84\) is not projected",
+    ),
+    (
+        _edit(20, 'tool = "count-rowz"'),
+        r"line 20: unknown tool 'count-rowz'; installed tools are: ",
+    ),
+    (
+        _edit(21, 'inputs = { feature = "points" }'),
+        r"line 21: unknown key 'feature' in \[\[steps\]\] #2 \(count\) inputs; count-rows inputs are: "
+        r"features, extra, domains",
+    ),
+    (
+        _edit(21, 'inputs = { features = "nope" }'),
+        r"line 21: .* reads 'nope', which is neither a project input nor an output of an earlier step; "
+        r"choose one of: sheet, points, convert-attitudes.converted_attitudes",
+    ),
+    (
+        _edit(21, 'inputs = { features = "convert-attitudes.rejects" }'),
+        r"line 21: .*step 'convert-attitudes' has no layer output 'rejects'",
+    ),
+    (
+        _edit(19, 'id = "convert-attitudes"'),
+        r"line 19: .*step id 'convert-attitudes' is already used",
+    ),
     (_edit(14, ""), r"line 13: \[\[steps\]\] #1 needs a tool"),
     (_edit(21, ""), r"line 18: .*tool input 'features' is not wired"),
-    (_edit(22, 'params = { multiplier = 2 }\noutputs = { row_count = "converted_attitudes" }'),
-     r"line 18: .*writes layer converted_attitudes, already written by step 'convert-attitudes'"),
-    (_edit(22, 'outputs = { row_count = "provenance" }'), r"line 18: .*already written by the run itself"),
+    (
+        _edit(22, 'params = { multiplier = 2 }\noutputs = { row_count = "converted_attitudes" }'),
+        r"line 18: .*writes layer converted_attitudes, already written by step 'convert-attitudes'",
+    ),
+    (
+        _edit(22, 'outputs = { row_count = "provenance" }'),
+        r"line 18: .*already written by the run itself",
+    ),
     (_edit(16, "params = { column = }"), r"not valid TOML: .*line 16"),
 ]
 
@@ -170,8 +210,16 @@ def test_invalid_project_from_the_command_line_exits_2(plugin, tmp_path, capsys)
 
 
 def test_run_fills_shared_parameters_and_writes_files(plugin, tmp_path, monkeypatch):
-    lines = BASE + ["", "[domains]", 'input = "domains"', 'field = "domain"', "",
-                    "[inputs.domains]", 'path = "layers.gpkg"', 'layer = "domains"']
+    lines = BASE + [
+        "",
+        "[domains]",
+        'input = "domains"',
+        'field = "domain"',
+        "",
+        "[inputs.domains]",
+        'path = "layers.gpkg"',
+        'layer = "domains"',
+    ]
     lines[10:10] = ['azimuth_ref = "grid"']  # into [inputs.points]
     path = _write_project(tmp_path / "p", lines)
     elsewhere = tmp_path / "elsewhere"
@@ -189,12 +237,18 @@ def test_run_fills_shared_parameters_and_writes_files(plugin, tmp_path, monkeypa
     assert row["source"].endswith("layers.gpkg")
     assert (out / "summary.txt").read_text() == "2 rows\n"
     assert (out / "notes" / "a.txt").read_text() == "first\n"
-    assert sorted(result.files) == sorted([out / "summary.txt", out / "notes/a.txt", out / "notes/b.bin"])
+    assert sorted(result.files) == sorted(
+        [out / "summary.txt", out / "notes/a.txt", out / "notes/b.bin"]
+    )
     points = gpd.read_file(tmp_path / "p" / "layers.gpkg", layer="points", engine="pyogrio")
-    assert points.crs.to_epsg() == 4326  # the input itself is untouched; the step saw it in EPSG:32633
+    assert (
+        points.crs.to_epsg() == 4326
+    )  # the input itself is untouched; the step saw it in EPSG:32633
     provenance = gpd.read_file(result.geopackage, layer=PROVENANCE_LAYER, engine="pyogrio")
     assert provenance["tool"].tolist() == ["convert-attitudes", "count-rows"]
-    assert provenance["inputs"].tolist()[1] == '{"features": "layers.gpkg", "domains": "layers.gpkg"}'
+    assert (
+        provenance["inputs"].tolist()[1] == '{"features": "layers.gpkg", "domains": "layers.gpkg"}'
+    )
     assert provenance["origin"].tolist() == ["thrustmap", "thrustmap-testplugin"]
     assert not any(str(tmp_path) in text for text in provenance.to_numpy().ravel().astype(str))
 
@@ -203,7 +257,9 @@ def test_explicit_parameter_wins_and_inputs_may_disagree_only_when_set(plugin, t
     lines = _edit(21, 'inputs = { features = "points", extra = "sheet" }')
     lines[10:10] = ['azimuth_ref = "grid"']
     path = _write_project(tmp_path / "p", lines)
-    with pytest.raises(InputError, match=r"line 19: .*its inputs disagree on azimuth_ref \(grid, magnetic\)"):
+    with pytest.raises(
+        InputError, match=r"line 19: .*its inputs disagree on azimuth_ref \(grid, magnetic\)"
+    ):
         load_project(path)
     lines[22] = 'params = { multiplier = 2, azimuth_ref = "true" }'
     path.write_text("\n".join(lines) + "\n")
@@ -212,10 +268,18 @@ def test_explicit_parameter_wins_and_inputs_may_disagree_only_when_set(plugin, t
 
 
 def test_renamed_outputs_and_step_outputs_feeding_later_steps(plugin, tmp_path):
-    lines = BASE[:15] + ["params = { column = \"attitude\" }", 'outputs = { converted_attitudes = "planes" }']
-    lines += ["", "[[steps]]", 'tool = "convert-attitudes"', 'id = "again"',
-              'inputs = { table = "convert-attitudes.converted_attitudes" }',
-              'params = { column = "stn" }']
+    lines = BASE[:15] + [
+        'params = { column = "attitude" }',
+        'outputs = { converted_attitudes = "planes" }',
+    ]
+    lines += [
+        "",
+        "[[steps]]",
+        'tool = "convert-attitudes"',
+        'id = "again"',
+        'inputs = { table = "convert-attitudes.converted_attitudes" }',
+        'params = { column = "stn" }',
+    ]
     result = run_project(_write_project(tmp_path / "p", lines))
     assert set(result.layers) == {"planes", "converted_attitudes", PROVENANCE_LAYER}
     again = gpd.read_file(result.geopackage, layer="converted_attitudes", engine="pyogrio")

@@ -23,7 +23,9 @@ def _declaration_modules():
     for path in sorted((ROOT / "thrustmap" / "tools").glob("*.py")):
         tree = ast.parse(path.read_text())
         for node in tree.body:
-            targets = node.targets if isinstance(node, ast.Assign) else [getattr(node, "target", None)]
+            targets = (
+                node.targets if isinstance(node, ast.Assign) else [getattr(node, "target", None)]
+            )
             if any(isinstance(t, ast.Name) and t.id == "TOOLS" for t in targets):
                 found.append(f"thrustmap.tools.{path.stem}:TOOLS")
     return found
@@ -36,7 +38,7 @@ def test_every_declaration_module_is_an_entry_point_in_pyproject():
     modules = _declaration_modules()
     assert modules, "no thrustmap/tools/*.py module defines TOOLS"
     missing = sorted(set(modules) - set(declared.values()))
-    assert not missing, f"add these to [project.entry-points.\"thrustmap.tools\"]: {missing}"
+    assert not missing, f'add these to [project.entry-points."thrustmap.tools"]: {missing}'
 
 
 def test_installed_metadata_matches_pyproject():
@@ -61,7 +63,9 @@ def test_builtins_load_and_none_is_broken():
 
 
 def test_unknown_tool_lists_installed():
-    with pytest.raises(ParameterError, match=r"unknown tool 'frobnicate'; installed tools are: .*convert-attitudes"):
+    with pytest.raises(
+        ParameterError, match=r"unknown tool 'frobnicate'; installed tools are: .*convert-attitudes"
+    ):
         registry.get_tool("frobnicate")
 
 
@@ -89,7 +93,10 @@ def test_plugin_tool_registered_with_its_origin(plugin):
 @pytest.mark.parametrize(
     ("name", "error"),
     [
-        ("missing", r"cannot load: ModuleNotFoundError: No module named 'thrustmap_no_such_module'"),
+        (
+            "missing",
+            r"cannot load: ModuleNotFoundError: No module named 'thrustmap_no_such_module'",
+        ),
         ("not-a-tool", r"resolves to int, expected a Tool or an iterable of Tools"),
         ("convert-attitudes", r"already provided by thrustmap"),
         ("run", r"'run' is a command of thrustmap itself"),
@@ -109,5 +116,7 @@ def test_builtin_survives_a_shadowing_plugin(plugin):
 
 
 def test_get_tool_of_a_broken_plugin_says_why(plugin):
-    with pytest.raises(ToolLoadError, match="'misused-options' from thrustmap-testplugin could not be loaded"):
+    with pytest.raises(
+        ToolLoadError, match="'misused-options' from thrustmap-testplugin could not be loaded"
+    ):
         registry.get_tool("misused-options")

@@ -205,7 +205,7 @@ def _read_sheet(path: Path, layer: str | None) -> tuple[pd.DataFrame, str]:
             raise InputError(
                 f"no such sheet; sheets are: {', '.join(sheets)}", source=str(path), layer=layer
             )
-        frame = book.parse(sheet, dtype=str, keep_default_na=False)
+        frame = pd.read_excel(book, sheet_name=sheet, dtype=str, keep_default_na=False)
     return frame, sheet
 
 
