@@ -250,8 +250,9 @@ def describe_tools() -> dict[str, Any]:
     Examples
     --------
     >>> doc = describe_tools()
-    >>> [p["flag"] for p in doc["tools"][0]["params"]][:1]
-    ['--column']
+    >>> convert = next(t for t in doc["tools"] if t["name"] == "convert-attitudes")
+    >>> [p["flag"] for p in convert["params"]]
+    ['--column', '--kind', '--azimuth']
     """
     parser = build_parser()
     subparsers = next(a for a in parser._actions if isinstance(a, argparse._SubParsersAction))

@@ -179,8 +179,9 @@ def list_tools() -> list[Tool]:
 
     Examples
     --------
-    >>> [t.name for t in list_tools() if t.origin == "thrustmap"][:1]
-    ['convert-attitudes']
+    >>> tools = list_tools()
+    >>> "convert-attitudes" in [t.name for t in tools], tools == sorted(tools, key=lambda t: t.name)
+    (True, True)
     """
     return list(_discover()[0].values())
 
