@@ -15,7 +15,7 @@ import shapely
 
 from thrustmap.cli import main
 from thrustmap.tools import registry
-from thrustmap.tools.declare import LayerOutput
+from thrustmap.tools.declare import FileOutput, LayerOutput
 from thrustmap.tools.runner import example_invocation
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -317,3 +317,34 @@ def test_subprocess_module_entry_with_plugin(tmp_path):
         check=False,
     )
     assert bad.returncode == 2 and "none.csv: not found" in bad.stderr
+
+
+def _returning(value, output):
+    from thrustmap.tools.declare import Tool
+
+    return Tool("returns", "returns what it is told", lambda: {output.name: value}, outputs=(output,))
+
+
+@pytest.mark.parametrize(
+    ("value", "output", "message"),
+    [
+        ("text", LayerOutput("layer", "table"), r"output 'layer' should be a DataFrame; got str"),
+        ("text", FileOutput("figs", "figures/"), r"folder output 'figs' should be a mapping"),
+        ({"../x.png": b""}, FileOutput("figs", "figures/"), r"file '../x.png' of output 'figs' leaves"),
+    ],
+)
+def test_wrong_kind_of_output_is_a_processing_failure(value, output, message):
+    from thrustmap.errors import ThrustmapError
+    from thrustmap.tools.runner import collect_outputs
+
+    tool = _returning(value, output)
+    with pytest.raises(ThrustmapError, match=message):
+        collect_outputs(tool, tool.run({}))
+
+
+def test_a_tool_without_an_example_fails_loudly(tmp_path):
+    from thrustmap.errors import ThrustmapError
+
+    tool = _returning(pd.DataFrame(), LayerOutput("layer", "table"))
+    with pytest.raises(ThrustmapError, match="'returns' .* declares no example"):
+        example_invocation(tool, tmp_path)

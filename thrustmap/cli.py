@@ -39,7 +39,7 @@ from thrustmap.errors import (
 )
 from thrustmap.io.sources import working_crs
 from thrustmap.tools import registry, runner
-from thrustmap.tools.declare import Param, Tool
+from thrustmap.tools.declare import LayerOutput, Param, Tool
 from thrustmap.tools.options import COMMON_OPTIONS, common_option
 
 __all__ = ["main", "build_parser", "describe_tools", "DEMO_PROJECT"]
@@ -96,7 +96,7 @@ def _flag(name: str) -> str:
 
 
 def _has_layers(tool: Tool) -> bool:
-    return any(o.describe()["kind"] == "layer" for o in tool.outputs)
+    return any(isinstance(o, LayerOutput) for o in tool.outputs)
 
 
 def _example_line(tool: Tool) -> str:

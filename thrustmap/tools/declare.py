@@ -308,22 +308,18 @@ class Tool:
         ParameterError
             When the tool has no such input; the message lists the inputs.
         """
-        for i in self.inputs:
-            if i.name == name:
-                return i
-        raise ParameterError(
-            f"{self.name}: unknown input {name!r}; inputs are: "
-            + ", ".join(i.name for i in self.inputs)
-        )
+        return self._named(self.inputs, name, "input")
 
     def param(self, name: str) -> Param:
         """The declared parameter called ``name``."""
-        for p in self.params:
-            if p.name == name:
-                return p
+        return self._named(self.params, name, "parameter")
+
+    def _named(self, items: tuple[Any, ...], name: str, kind: str) -> Any:
+        for item in items:
+            if item.name == name:
+                return item
         raise ParameterError(
-            f"{self.name}: unknown parameter {name!r}; parameters are: "
-            + ", ".join(p.name for p in self.params)
+            f"{self.name}: unknown {kind} {name!r}; {kind}s are: " + ", ".join(i.name for i in items)
         )
 
     def validate_params(self, values: Mapping[str, Any]) -> dict[str, Any]:

@@ -106,7 +106,11 @@ COMMON_OPTIONS: tuple[CommonOption, ...] = (
     CommonOption("azimuth_ref", AZIMUTH_REF.help, AZIMUTH_REF),
     CommonOption("declination", DECLINATION.help, DECLINATION),
     CommonOption("date", DATE.help, DATE),
-    CommonOption("out", "Output GeoPackage; files a tool writes go to the same folder."),
+    CommonOption(
+        "out",
+        "Output GeoPackage; files a tool writes go to its folder (OUT is the folder for a tool "
+        "that writes only files).",
+    ),
     CommonOption("overwrite", "Replace outputs that already exist (refused otherwise)."),
     CommonOption("quiet", "Only report errors; no progress bars.", short="-q"),
     CommonOption("verbose", "Report debugging detail (and tracebacks on failure).", short="-v"),

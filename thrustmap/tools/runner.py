@@ -129,6 +129,10 @@ def collect_outputs(
                     f"to contents; got {type(value).__name__}"
                 )
             for relative, content in value.items():
+                if Path(relative).is_absolute() or ".." in Path(relative).parts:
+                    raise ThrustmapError(
+                        f"{tool.name}: file {relative!r} of output {out.name!r} leaves its folder"
+                    )
                 files[(Path(target) / relative).as_posix()] = content
         else:
             files[target] = value
