@@ -52,18 +52,16 @@ def test_elapsed_time_is_logged(caplog):
     assert "bootstrap: 2 done in" in caplog.text
 
 
-def test_cli_quiet_disables_bars(tmp_path):
+def test_cli_draws_bars_on_a_terminal_unless_quiet(tmp_path, monkeypatch):
+    import sys
+
     from thrustmap.cli import main
 
     (tmp_path / "a.csv").write_text("attitude\n030/45\n")
-    assert (
-        main(
-            ["convert-attitudes", str(tmp_path / "a.csv"), "--out", str(tmp_path / "o.gpkg"), "-q"]
-        )
-        == 0
-    )
-    assert not Progress(1, stream=Terminal()).visible
-    assert (
-        main(["convert-attitudes", str(tmp_path / "a.csv"), "--out", str(tmp_path / "p.gpkg")]) == 0
-    )
-    assert Progress(1, stream=Terminal()).visible
+    argv = ["convert-attitudes", str(tmp_path / "a.csv"), "--out"]
+    monkeypatch.setattr(sys, "stderr", Terminal())
+    assert main([*argv, str(tmp_path / "o.gpkg"), "-q"]) == 0
+    assert sys.stderr.getvalue() == ""
+    assert main([*argv, str(tmp_path / "p.gpkg")]) == 0
+    assert "converting plane attitudes [" in sys.stderr.getvalue()
+    assert Progress(1, stream=Terminal()).visible  # the setting is restored after the command

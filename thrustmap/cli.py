@@ -24,7 +24,8 @@ import shutil
 import sys
 import textwrap
 import traceback
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any
 
@@ -44,7 +45,7 @@ from thrustmap.tools.options import COMMON_OPTIONS, common_option
 
 __all__ = ["main", "build_parser", "describe_tools", "DEMO_PROJECT"]
 
-log = logging.getLogger("thrustmap")
+log = logging.getLogger(__name__)
 
 #: The project ``thrustmap demo`` runs, relative to the working folder.
 DEMO_PROJECT = Path("sample_gis") / "project.toml"
@@ -371,16 +372,22 @@ class _Formatter(logging.Formatter):
         return text
 
 
-def _configure_logging(quiet: bool, verbose: bool) -> None:
+@contextmanager
+def _reporting(quiet: bool, verbose: bool) -> Iterator[None]:
+    """Log thrustmap's messages to standard error for one command, then restore the settings."""
     logger = logging.getLogger("thrustmap")
-    for handler in [h for h in logger.handlers if getattr(h, "_thrustmap_cli", False)]:
-        logger.removeHandler(handler)
     handler = logging.StreamHandler(sys.stderr)
-    handler._thrustmap_cli = True  # type: ignore[attr-defined]
     handler.setFormatter(_Formatter("%(name)s: %(message)s" if verbose else "%(message)s"))
+    level = logger.level
     logger.addHandler(handler)
     logger.setLevel(logging.ERROR if quiet else logging.DEBUG if verbose else logging.INFO)
-    progress.set_enabled(not quiet)
+    bars = progress.set_enabled(not quiet)
+    try:
+        yield
+    finally:
+        progress.set_enabled(bars)
+        logger.setLevel(level)
+        logger.removeHandler(handler)
 
 
 def _first_command(argv: Sequence[str]) -> str | None:
@@ -407,8 +414,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         if command is not None and command not in _COMMANDS:
             registry.get_tool(command)
         args = build_parser().parse_args(argv)
-        _configure_logging(args.quiet, args.verbose)
-        return args.handler(args)
+        with _reporting(args.quiet, args.verbose):
+            return args.handler(args)
     except SystemExit as exc:  # argparse: --help, --version and usage errors
         return exc.code if isinstance(exc.code, int) else 0 if exc.code is None else 2
     except _USAGE_ERRORS as exc:

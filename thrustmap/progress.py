@@ -26,15 +26,22 @@ _WIDTH = 28
 _INTERVAL = 0.1  # seconds between redraws
 
 
-def set_enabled(enabled: bool) -> None:
+def set_enabled(enabled: bool) -> bool:
     """Allow (``True``, the default) or forbid progress bars in this process.
+
+    Returns
+    -------
+    bool
+        The previous setting, to restore it.
 
     Examples
     --------
-    >>> set_enabled(False); set_enabled(True)
+    >>> previous = set_enabled(False)
+    >>> _ = set_enabled(previous)
     """
     global _enabled
-    _enabled = bool(enabled)
+    previous, _enabled = _enabled, bool(enabled)
+    return previous
 
 
 class Progress:
