@@ -191,6 +191,10 @@ INVALID = [
         _edit(22, 'outputs = { row_count = "provenance" }'),
         r"line 18: .*already written by the run itself",
     ),
+    (
+        _edit(22, 'outputs = { summary = "../summary.txt" }'),
+        r"line 22: output 'summary' in .* must stay inside the output folder",
+    ),
     (_edit(16, "params = { column = }"), r"not valid TOML: .*line 16"),
 ]
 

@@ -60,7 +60,7 @@ from thrustmap._version import __version__
 from thrustmap.errors import InputError, ParameterError, SourceNotFoundError, ToolLoadError
 from thrustmap.io.sources import parse_crs, read_source, working_crs
 from thrustmap.tools import registry, runner
-from thrustmap.tools.declare import LayerOutput, Tool
+from thrustmap.tools.declare import FileOutput, LayerOutput, Tool
 from thrustmap.tools.options import AZIMUTH_REF, DECLINATION
 
 __all__ = [
@@ -448,15 +448,32 @@ def _load_step(
             f'{label}: step id {step_id!r} is already used; give this step its own id = "..."',
         )
 
+    refs = _wire_inputs(check, where, label, tool, raw, inputs, earlier, domains_input)
+    defaults: dict[str, Any] = {"crs": crs, "domain_field": domains_field}
+    params = _step_params(check, where, label, tool, raw, refs, inputs, defaults)
+    names = _step_outputs(check, where, label, tool, raw)
+    return Step(id=step_id, tool=tool, inputs=refs, params=params, outputs=names)
+
+
+def _wire_inputs(
+    check: _Checker,
+    where: tuple[str | int, ...],
+    label: str,
+    tool: Tool,
+    raw: Mapping[str, Any],
+    inputs: dict[str, ProjectInput],
+    earlier: list[Step],
+    domains_input: str | None,
+) -> dict[str, str]:
     wiring = check.table(raw.get("inputs", {}), where + ("inputs",), f"{label} inputs")
+    names = [i.name for i in tool.inputs]
     refs: dict[str, str] = {}
     for key, ref in wiring.items():
         at = where + ("inputs", key)
-        if key not in {i.name for i in tool.inputs}:
+        if key not in names:
             raise check.error(
                 at,
-                f"unknown key {key!r} in {label} inputs; {tool.name} inputs are: "
-                + ", ".join(i.name for i in tool.inputs),
+                f"unknown key {key!r} in {label} inputs; {tool.name} inputs are: {', '.join(names)}",
             )
         if not isinstance(ref, str):
             raise check.error(
@@ -464,7 +481,7 @@ def _load_step(
             )
         _check_ref(check, at, label, tool.input(key).geometry, ref, inputs, earlier)
         refs[key] = ref
-    if "domains" in {i.name for i in tool.inputs} and "domains" not in refs and domains_input:
+    if "domains" in names and "domains" not in refs and domains_input:
         refs["domains"] = domains_input
     for i in tool.inputs:
         if not i.optional and i.name not in refs:
@@ -472,20 +489,31 @@ def _load_step(
                 where,
                 f'{label}: tool input {i.name!r} is not wired; add inputs = {{ {i.name} = "..." }}',
             )
+    return refs
 
+
+def _step_params(
+    check: _Checker,
+    where: tuple[str | int, ...],
+    label: str,
+    tool: Tool,
+    raw: Mapping[str, Any],
+    refs: dict[str, str],
+    inputs: dict[str, ProjectInput],
+    defaults: dict[str, Any],
+) -> dict[str, Any]:
     given = check.table(raw.get("params", {}), where + ("params",), f"{label} params")
     params: dict[str, Any] = {}
     for key, value in given.items():
-        at = where + ("params", key)
         try:
             params[key] = tool.param(key).validate(value, tool=tool.name)
         except ParameterError as exc:
             message = str(exc)
             if message.startswith(f"{tool.name}: unknown parameter"):
                 message = f"unknown key {key!r} in {label} params; " + message.split("; ", 1)[1]
-            raise check.error(at, message) from None
+            raise check.error(where + ("params", key), message) from None
     declared = {p.name for p in tool.params}
-    defaults: dict[str, Any] = {"crs": crs, "domain_field": domains_field}
+    defaults = dict(defaults)
     for meta in _INPUT_METADATA:
         found = {getattr(inputs[r], meta) for r in refs.values() if r in inputs} - {None}
         if len(found) > 1 and meta in declared and meta not in params:
@@ -498,22 +526,27 @@ def _load_step(
     for key, value in defaults.items():
         if key in declared and key not in params and value is not None:
             params[key] = value
-    params = tool.validate_params(params)
+    return tool.validate_params(params)
 
+
+def _step_outputs(
+    check: _Checker, where: tuple[str | int, ...], label: str, tool: Tool, raw: Mapping[str, Any]
+) -> dict[str, str]:
     renames = check.table(raw.get("outputs", {}), where + ("outputs",), f"{label} outputs")
     names = {o.name: o.name if isinstance(o, LayerOutput) else o.filename for o in tool.outputs}
     for key, value in renames.items():
+        at = where + ("outputs", key)
         if key not in names:
             raise check.error(
-                where + ("outputs", key),
+                at,
                 f"unknown key {key!r} in {label} outputs; {tool.name} outputs are: {', '.join(names)}",
             )
         if not isinstance(value, str) or not value:
-            raise check.error(
-                where + ("outputs", key), f"output {key!r} in {label} must be renamed to a text"
-            )
+            raise check.error(at, f"output {key!r} in {label} must be renamed to a text")
+        if Path(value).is_absolute() or ".." in Path(value).parts:
+            raise check.error(at, f"output {key!r} in {label} must stay inside the output folder")
         names[key] = value
-    return Step(id=step_id, tool=tool, inputs=refs, params=params, outputs=names)
+    return names
 
 
 def _check_ref(
@@ -627,7 +660,7 @@ def run_project(
     targets = [geopackage]
     for step in project.steps:
         for out in step.tool.outputs:
-            if not isinstance(out, LayerOutput) and not step.outputs[out.name].endswith("/"):
+            if isinstance(out, FileOutput) and not out.is_folder:
                 targets.append(folder / step.outputs[out.name])
     runner.check_targets(targets, overwrite=overwrite)
 
