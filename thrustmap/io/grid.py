@@ -362,5 +362,5 @@ def write_ascii_grid(
             # ESRI WKT is what .prj readers expect; CRSs it cannot express fall back to WKT2.
             wkt = grid.crs.to_wkt("WKT1_ESRI") or grid.crs.to_wkt()
             temps[1].write_text(wkt, encoding="utf-8")
-    log.info("wrote %s (%d x %d cells of %g m)", path, rows, cols, grid.cell)
+    log.debug("wrote %s (%d x %d cells of %g m)", path, rows, cols, grid.cell)
     return path
