@@ -269,6 +269,16 @@ def test_slickenlines_lie_in_their_thrust_planes_and_point_along_transport(sc):
             th["trend"].iloc[i], th["plunge"].iloc[i], pole_bearing[i], pole_plunge[i]
         )
         assert angle == pytest.approx(90.0, abs=0.2)  # 0.1-degree rounding of both
+    # each thrust surface lies near the local noise-free plane (kappa 100: P(angle > 25) ~ 1e-4)
+    key = sc.stations_key.loc[th.index]
+    exact_strike = (key["exact_dip_direction"] - 90.0) % 360.0
+    exact = mplstereonet.pole(np.array(exact_strike), np.array(key["exact_dip"]))
+    noisy = mplstereonet.pole(np.array(th["strike"]), np.array(th["dip"]))
+    assert np.degrees(mplstereonet.angular_distance(exact, noisy)).max() < 25.0
+    # and dips toward its trace's hanging wall (truth) on average
+    hw = key["thrust_id"].map({t["id"]: t["hw_dip_direction_true"] for t in sc.truth["thrusts"]})
+    off = (th["strike"] + 90.0 - hw + 180.0) % 360.0 - 180.0
+    assert abs(off.median()) < 10.0
     (_, mean_bearing), _ = mplstereonet.find_fisher_stats(
         th["plunge"].to_numpy(), th["trend"].to_numpy()
     )

@@ -24,7 +24,6 @@ from pyproj import CRS, Proj, Transformer
 from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_vector,
-    normal_to_plane,
     plane_to_normal,
     rake_to_line,
 )
@@ -282,11 +281,6 @@ def fisher(mean: Float, kappa: Float | float, rng: np.random.Generator) -> Float
     e2 = np.cross(mean, e1)
     r = np.sqrt(np.clip(1.0 - w * w, 0.0, None))
     return w[:, None] * mean + (r * np.cos(phi))[:, None] * e1 + (r * np.sin(phi))[:, None] * e2
-
-
-def plane_from_normal(normal: Float) -> tuple[Float, Float]:
-    """Dip direction and dip (degrees) of planes from normals of either sense."""
-    return normal_to_plane(normal)
 
 
 def _softplus(v: Float, width: float) -> Float:

@@ -80,7 +80,8 @@ class Scenario:
     truth : dict
         Every known value (what ``truth.json`` holds).
     stations_key : DataFrame
-        Per row of ``stations``: its domain and the noise-free attitude
+        Per row of ``stations``: its ``domain``, the ``thrust_id`` of a thrust
+        measurement (missing otherwise) and the noise-free attitude
         (``exact_dip_direction``, ``exact_dip``, ``exact_trend``, ``exact_plunge``).
     field_key : DataFrame
         Per row of ``field_sheet``: ``source_row``, ``stn``, ``type``, the
@@ -376,7 +377,9 @@ def _stations_layer(meas: pd.DataFrame, x, y) -> tuple[gpd.GeoDataFrame, pd.Data
         geometry=shapely.points(x[site], y[site]),
         crs=_crs(),
     )
-    key = meas[["domain", "exact_dip_direction", "exact_dip", "exact_trend", "exact_plunge"]].copy()
+    key = meas[
+        ["domain", "thrust_id", "exact_dip_direction", "exact_dip", "exact_trend", "exact_plunge"]
+    ].copy()
     key.insert(0, "station_id", layer["station_id"].to_numpy())
     return layer, key
 
