@@ -51,16 +51,7 @@ __all__ = [
 
 Float = NDArray[np.float64]
 
-_LETTER_AZ = {
-    "N": 0.0,
-    "NE": 45.0,
-    "E": 90.0,
-    "SE": 135.0,
-    "S": 180.0,
-    "SW": 225.0,
-    "W": 270.0,
-    "NW": 315.0,
-}
+_LETTER_AZ = {"N": 0.0, "NE": 45.0, "E": 90.0, "SE": 135.0, "S": 180.0, "SW": 225.0, "W": 270.0, "NW": 315.0}
 
 
 def normalize_azimuth(azimuth: ArrayLike) -> Float:
@@ -213,9 +204,7 @@ def angle_between_planes(
     >>> round(float(angle_between_planes(90, 30, 270, 30)), 6)
     60.0
     """
-    return _axial_angle(
-        plane_to_normal(dip_direction1, dip1), plane_to_normal(dip_direction2, dip2)
-    )
+    return _axial_angle(plane_to_normal(dip_direction1, dip1), plane_to_normal(dip_direction2, dip2))
 
 
 def rake_to_line(
@@ -309,13 +298,7 @@ _PLANE = re.compile(
     r"^(?P<az>[NSEW0-9.\-\s]+?)\s*[/,;:\s]\s*(?P<dip>" + _NUM + r")\s*(?P<letter>[NSEW]{1,2})?$"
 )
 _LINE_QUAD = re.compile(
-    r"^(?P<plunge1>"
-    + _NUM
-    + r"\s*[/,;:\s]\s*)?(?P<az>[NS]\s*"
-    + _NUM
-    + r"\s*[EW])(?:\s*[/,;:\s]\s*(?P<plunge>"
-    + _NUM
-    + r"))?$"
+    r"^(?P<plunge1>" + _NUM + r"\s*[/,;:\s]\s*)?(?P<az>[NS]\s*" + _NUM + r"\s*[EW])(?:\s*[/,;:\s]\s*(?P<plunge>" + _NUM + r"))?$"
 )
 
 

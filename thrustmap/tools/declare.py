@@ -144,12 +144,7 @@ class LayerInput:
 
     def describe(self) -> dict[str, Any]:
         """JSON-ready description of the input."""
-        return {
-            "name": self.name,
-            "geometry": self.geometry,
-            "help": self.help,
-            "optional": self.optional,
-        }
+        return {"name": self.name, "geometry": self.geometry, "help": self.help, "optional": self.optional}
 
 
 @dataclass(frozen=True)
@@ -205,9 +200,7 @@ class Tool:
             p.name: p.validate(values.get(p.name, p.default), tool=self.name) for p in self.params
         }
 
-    def run(
-        self, inputs: Mapping[str, Any], params: Mapping[str, Any] | None = None
-    ) -> dict[str, Any]:
+    def run(self, inputs: Mapping[str, Any], params: Mapping[str, Any] | None = None) -> dict[str, Any]:
         """Validate the parameters, check the inputs and call the function.
 
         Raises
