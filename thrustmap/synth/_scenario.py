@@ -297,22 +297,24 @@ def _measure(x: np.ndarray, y: np.ndarray, ctx: dict, rng: np.random.Generator) 
 
 
 def _thrust_measurements(x, y, gamma, ctx, rng) -> pd.DataFrame:
-    lines = np.array(list(ctx["thrust_lines"].values()))
-    dips = np.array([t.dip for t in m.THRUSTS])
-    pts = shapely.points(x, y)
-    dist = shapely.distance(pts[:, None], lines[None, :])
-    nearest = np.argmin(dist, axis=1)
-    sel = np.flatnonzero(
-        (dist.min(axis=1) < THRUST_STATION_DISTANCE) & (rng.random(x.size) < THRUST_SHARE)
+    """Thrust surfaces with slickenlines at sites within ``THRUST_STATION_DISTANCE`` of a trace."""
+    # one tree of short trace segments: the nearest segment gives the thrust and the local strike
+    coords = [shapely.get_coordinates(line) for line in ctx["thrust_lines"].values()]
+    start = np.concatenate([c[:-1] for c in coords])
+    end = np.concatenate([c[1:] for c in coords])
+    owner = np.concatenate([np.full(len(c) - 1, i) for i, c in enumerate(coords)])
+    tree = shapely.STRtree(shapely.linestrings(np.stack([start, end], axis=1)))
+    site, seg = tree.query_nearest(
+        shapely.points(x, y), max_distance=THRUST_STATION_DISTANCE, all_matches=False
     )
-    line = lines[nearest[sel]]
-    along = shapely.line_locate_point(line, pts[sel])
-    a = shapely.get_coordinates(shapely.line_interpolate_point(line, along - 50.0))
-    b = shapely.get_coordinates(shapely.line_interpolate_point(line, along + 50.0))
-    t = b - a
-    # lines run toward +u, so the hanging wall (hinterland) is on their right
+    order = np.argsort(site, kind="stable")
+    site, seg = site[order], seg[order]
+    keep = rng.random(site.size) < THRUST_SHARE
+    sel, seg = site[keep], seg[keep]
+    t = end[seg] - start[seg]
+    # segments run toward +u, so the hanging wall (hinterland) is on their right
     dd = normalize_azimuth(np.degrees(np.arctan2(t[:, 1], -t[:, 0])) + gamma[sel])
-    dip = dips[nearest[sel]]
+    dip = np.array([tt.dip for tt in m.THRUSTS])[owner[seg]]
     exact_n = plane_to_normal(dd, dip)
     noisy_n = m.fisher(exact_n, m.KAPPA["thrust"], rng)
     transport = line_to_vector(m.TRANSPORT_GRID + gamma[sel], 0.0)
@@ -334,7 +336,7 @@ def _thrust_measurements(x, y, gamma, ctx, rng) -> pd.DataFrame:
         exact_plane=(dd, dip),
         exact_line=vector_to_line(slip(exact_n, np.zeros(sel.size))),
         sense="reverse",
-        thrust_id=np.array([tt.id for tt in m.THRUSTS])[nearest[sel]],
+        thrust_id=np.array([tt.id for tt in m.THRUSTS])[owner[seg]],
     )
 
 
