@@ -13,7 +13,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import thrustmap
-from thrustmap.errors import CRSError, InputError, InputFileError, ParameterError
+from thrustmap.errors import CRSError, InputError, ParameterError, SourceNotFoundError
 from thrustmap.io.attitudes import ATTITUDE_COLUMNS, REJECT_COLUMNS, read_attitudes
 from thrustmap.io.columns import detect_columns
 from thrustmap.io.validation import REASONS
@@ -473,7 +473,7 @@ ERROR_CASES = [
         ParameterError,
         "working_crs='EPSG:4326' must be a projected CRS in metres",
     ),
-    ("csv layer", {"crs": UTM33, "layer": "sheet1"}, ParameterError, "a CSV file has no layers"),
+    ("csv layer", {"crs": UTM33, "layer": "sheet1"}, ParameterError, "a text table has no layers"),
 ]
 
 
@@ -516,20 +516,26 @@ def test_clear_crs_errors_for_frames_and_layers(tmp_path):
         read_attitudes(_stations(), crs="EPSG:32634")
     path = tmp_path / "two.gpkg"
     write_layers(path, {"a": _stations(), "b": _stations()})
-    with pytest.raises(ParameterError, match=r"holds 2 layers \(a, b\); choose one with layer="):
+    with pytest.raises(
+        InputError, match=r"holds 2 layers; name one as FILE:LAYER \(or --layer\): a, b"
+    ):
         read_attitudes(path)
-    with pytest.raises(ParameterError, match=r"no layer 'c'; layers: a, b"):
+    with pytest.raises(InputError, match=r"layer c: no such layer; layers are: a, b"):
         read_attitudes(path, layer="c")
     assert read_attitudes(path, layer="b").source.endswith("(layer b)")
-    with pytest.raises(InputFileError, match="does not exist"):
+    with pytest.raises(SourceNotFoundError, match="not found"):
         read_attitudes(tmp_path / "missing.gpkg")
 
 
 def test_csv_dialects(tmp_path):
-    text = "\ufeffStation;Easting;Northing;Strike;Dip\n007;700000;5090000;030;45\n\n008;700010;5090000;040;50\n"
+    text = (
+        "\ufeffStation;Easting;Northing;Strike;Dip\n"
+        "007;700000;5090000;030;45\n;;;;\n008;700010;5090000;040;50\n\n"
+    )
     result = read_attitudes(_csv(tmp_path, text), crs=UTM33)
     assert result.accepted["station"].tolist() == ["007", "008"]
-    assert result.accepted["source_row"].tolist() == [1, 3]  # the blank line is row 2
+    assert "Station" in result.accepted.columns  # byte-order mark dropped
+    assert result.accepted["source_row"].tolist() == [1, 3]  # the row of empty cells is row 2
     assert result.counts["empty_row"] == 1
     latin = tmp_path / "latin.csv"
     latin.write_bytes(

@@ -11,7 +11,8 @@ __all__ = [
     "DegenerateDataError",
     "OutputExistsError",
     "ThrustmapWarning",
-    "InputFileError",
+    "SourceNotFoundError",
+    "ToolLoadError",
 ]
 
 
@@ -70,5 +71,9 @@ class ThrustmapWarning(UserWarning):
     """Warnings thrustmap raises about data quality or questionable results."""
 
 
-class InputFileError(ThrustmapError, OSError):
-    """An input file or layer that is missing or cannot be opened as the format it claims."""
+class SourceNotFoundError(ThrustmapError, FileNotFoundError):
+    """An input file that does not exist; the message names the path."""
+
+
+class ToolLoadError(ThrustmapError, ImportError):
+    """A tool plugin that failed to load; the message names the entry point and the cause."""

@@ -1,1 +1,1 @@
-"""Reading and writing attitude tables and layers."""
+"""Reading and writing thrustmap's inputs and outputs: attitudes, layers, grids."""

@@ -39,7 +39,7 @@ from thrustmap.io.cells import (
     read_words,
 )
 from thrustmap.io.columns import detect_columns
-from thrustmap.io.layers import read_layer
+from thrustmap.io.sources import TABLE_SUFFIXES, read_source
 from thrustmap.io.validation import FLAGS, REASONS, RowVerdicts, join_flags, reason_counts
 from thrustmap.io.vocabulary import (
     FEATURE_WORDS,
@@ -235,8 +235,8 @@ def read_attitudes(
     InputError
         When ``columns`` names a missing header, two headers fit one field, or
         no coordinates can be found.
-    InputFileError
-        When the file is missing or unreadable.
+    SourceNotFoundError
+        When the file is missing (an unreadable file is an ``InputError``).
 
     Examples
     --------
@@ -426,16 +426,27 @@ def _check_north_options(
 
 
 def _load(source: object, layer: str | None, engine: str | None) -> tuple[pd.DataFrame, str, str]:
-    """Frame, message prefix ("file x.csv") and label ("x.csv") of a source."""
+    """Frame, message prefix ("file x.csv, layer a") and label ("x.csv (layer a)") of a source.
+
+    A frame read by :func:`thrustmap.io.sources.read_source` names its file in
+    ``attrs``; other frames are "input table".
+    """
     if isinstance(source, pd.DataFrame):
         if layer is not None:
             raise ParameterError("layer= applies to files, not to a table in memory")
-        return source, "input table", "input table"
-    path = Path(source)
-    frame = read_layer(path, layer=layer, engine=engine)
-    label = f"{path}" if layer is None else f"{path} (layer {layer})"
-    where = f"file {path}" if layer is None else f"file {path}, layer {layer}"
-    return frame, where, label
+        frame = source
+    else:
+        if layer is not None and Path(source).suffix.lower() in TABLE_SUFFIXES:
+            raise ParameterError(
+                f"file {source}: layer={layer!r} given, but a text table has no layers"
+            )
+        frame = read_source(source, layer=layer, engine=engine)
+    path, name = frame.attrs.get("source"), frame.attrs.get("layer")
+    if path is None:
+        return frame, "input table", "input table"
+    if name is None:
+        return frame, f"file {path}", str(path)
+    return frame, f"file {path}, layer {name}", f"{path} (layer {name})"
 
 
 def _geometry_name(frame: pd.DataFrame) -> str | None:
@@ -446,19 +457,21 @@ def _geometry_name(frame: pd.DataFrame) -> str | None:
 
 
 def _source_crs(frame: pd.DataFrame, crs: object, where: str) -> pyproj.CRS:
-    own = frame.crs if _geometry_name(frame) else None
+    own = frame.crs if _geometry_name(frame) else frame.attrs.get("crs")
     given = None
     if crs is not None:
         try:
             given = pyproj.CRS.from_user_input(crs)
         except pyproj.exceptions.CRSError as exc:
             raise CRSError(f"crs={crs!r} is not a CRS pyproj knows ({exc})") from exc
+    if own is not None:
+        own = pyproj.CRS.from_user_input(own)
     if own is not None and given is not None and not own.equals(given, ignore_axis_order=True):
         raise CRSError(
             f"{where} declares CRS {own.to_string()} ({own.name}) but crs={crs!r} was given; "
             "drop crs= or reproject the data first"
         )
-    chosen = own or given
+    chosen = own if own is not None else given
     if chosen is None:
         raise CRSError(
             f"{where} has no coordinate reference system and thrustmap never guesses one; "

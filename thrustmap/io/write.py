@@ -18,7 +18,7 @@ import geopandas as gpd
 import pandas as pd
 
 from thrustmap.errors import OutputExistsError, ParameterError
-from thrustmap.io.layers import ENGINES
+from thrustmap.io.sources import ENGINES
 
 __all__ = ["write_layers", "DRIVERS"]
 
