@@ -644,3 +644,35 @@ def test_contract_field_sheet_layout(tmp_path):
     np.testing.assert_allclose(acc["trend"].iloc[1], 80.0 + expected[1])
     assert acc["notes"].tolist()[0] == "<script>alert(1)</script>"  # kept verbatim, as data
     assert acc["feature"].tolist() == ["bedding", "hinge_line"]
+
+
+def test_ingest_tool_on_the_command_line(tmp_path, monkeypatch, capsys):
+    """The tool registered by this project's entry points, run by the command line on its
+    example: counts per reason are printed and both layers written."""
+    import tomllib
+    from importlib import metadata
+    from pathlib import Path
+
+    from thrustmap.cli import main
+    from thrustmap.tools import registry, runner
+
+    pyproject = Path(__file__).resolve().parents[1] / "pyproject.toml"
+    entries = tomllib.loads(pyproject.read_text())["project"]["entry-points"]["thrustmap.tools"]
+    tools, broken = registry._scan(
+        metadata.EntryPoint(k, v, registry.ENTRY_POINT_GROUP) for k, v in entries.items()
+    )
+    assert broken == [] and "ingest-attitudes" in tools
+    monkeypatch.setattr(registry, "_cache", (tools, []))
+    sources, params = runner.example_invocation(tools["ingest-attitudes"], tmp_path / "in")
+    out = tmp_path / "out" / "result.gpkg"
+    argv = ["ingest-attitudes", sources["table"], "--out", str(out)]
+    for key, value in params.items():
+        argv += ["--" + key.replace("_", "-"), str(value)]
+    assert main(argv) == 0
+    assert "rejected dip_out_of_range: 1" in capsys.readouterr().err
+    acc = gpd.read_file(out, layer="attitudes")
+    rej = gpd.read_file(out, layer="attitudes_rejected")
+    assert acc.crs.to_epsg() == 32633
+    assert acc["source_row"].tolist() == [1, 2, 3] and rej["source_row"].tolist() == [4]
+    assert (acc["azimuth_ref_input"] == "magnetic").all()
+    assert (acc["declination"] > 0).all()  # IGRF: east declination in this area in 2024
