@@ -9,11 +9,32 @@ from pathlib import Path
 
 from thrustmap.errors import OutputExistsError, ParameterError
 
-__all__ = ["FIGURE_FORMATS", "save_figure"]
+__all__ = ["CAUTION", "FIGURE_FORMATS", "add_caution", "save_figure"]
 
 log = logging.getLogger(__name__)
 
 FIGURE_FORMATS = ("png", "svg", "pdf")
+
+CAUTION = (
+    "Interpretive aid; to be reviewed by a qualified geologist. "
+    "Local codes and licensed practice prevail."
+)
+
+
+def add_caution(ax, text: str = CAUTION) -> None:
+    """Write the caution under an axes, below its x label (kept clear by constrained layout).
+
+    Examples
+    --------
+    >>> import matplotlib.pyplot as plt
+    >>> fig, ax = plt.subplots()
+    >>> add_caution(ax)
+    >>> ax.texts[-1].get_text().startswith("Interpretive aid")
+    True
+    >>> plt.close(fig)
+    """
+    ax.annotate(text, xy=(0.0, 0.0), xycoords="axes fraction", xytext=(0, -36), textcoords="offset points",
+                va="top", ha="left", fontsize=6.5, color="#555555")
 
 
 def save_figure(

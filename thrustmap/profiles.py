@@ -31,6 +31,7 @@ from pyproj import CRS
 from scipy.stats import theilslopes
 
 from thrustmap.errors import CRSError, DegenerateDataError, InputError, ParameterError
+from thrustmap.figures import add_caution
 
 __all__ = [
     "sample_elevation",
@@ -679,14 +680,13 @@ def plot_profiles(samples: gpd.GeoDataFrame, profiles: gpd.GeoDataFrame, *, titl
     """
     import matplotlib.pyplot as plt
 
-    from thrustmap.wedge import CAUTION
-
     fig, ax = plt.subplots(figsize=(8.0, 4.5), layout="constrained")
     colours = plt.get_cmap("viridis")(np.linspace(0, 0.85, max(len(profiles), 1)))
     for colour, (_, prof) in zip(colours, profiles.iterrows(), strict=False):
         s = samples[samples["profile_id"] == prof["profile_id"]]
         d, z = s["distance_m"].to_numpy() / 1000.0, s["elevation"].to_numpy()
-        ax.plot(d, z, color=colour, lw=1.0, label=f"profile {prof['profile_id']}: alpha {prof['alpha']:.2f}")
+        ax.plot(d, z, color=colour, lw=1.0, label=f"{prof['profile_id']}: alpha {prof['alpha']:.2f} (rear {prof['alpha_rear']:.2f}, "
+                f"front {prof['alpha_front']:.2f})")
         brk = prof["break_m"]
         if np.isfinite(brk):
             ax.axvline(brk / 1000.0, color=colour, lw=0.6, ls=":")
@@ -704,5 +704,5 @@ def plot_profiles(samples: gpd.GeoDataFrame, profiles: gpd.GeoDataFrame, *, titl
     if title:
         ax.set_title(title)
     ax.legend(fontsize=7, ncols=2)
-    ax.text(0.0, -0.15, CAUTION, transform=ax.transAxes, va="top", fontsize=6.5, color="#555555")
+    add_caution(ax)
     return fig

@@ -59,6 +59,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.optimize import brentq
 
 from thrustmap.errors import DegenerateDataError, ParameterError
+from thrustmap.figures import add_caution
 
 __all__ = [
     "SETTINGS",
@@ -83,11 +84,6 @@ SETTINGS = ("subaerial", "submarine")
 METHODS = ("exact", "small-angle")
 STATES = ("sub-critical", "critical", "super-critical")
 UNDEFINED = "undefined"
-
-CAUTION = (
-    "Interpretive aid; to be reviewed by a qualified geologist. "
-    "Local codes and licensed practice prevail."
-)
 
 _HALF_PI = 0.5 * np.pi
 
@@ -894,5 +890,5 @@ def plot_envelope(
     if title:
         ax.set_title(title)
     ax.legend(loc="upper right", fontsize=8, framealpha=0.9)
-    ax.text(0.0, -0.13, CAUTION, transform=ax.transAxes, va="top", fontsize=6.5, color="#555555")
+    add_caution(ax)
     return fig
