@@ -217,3 +217,11 @@ ERRORS = [
 def test_errors(call, error, match):
     with pytest.raises(error, match=match):
         call()
+
+
+def test_repeated_profile_ids_stay_apart():
+    layer = profile_layer()
+    layer["profile_id"] = "same"
+    prof = surface_profiles(layer, wedge_grid(), azimuth=AZIMUTH, step=200.0)
+    assert len(prof) == 3 and prof["alpha"].notna().all()
+    np.testing.assert_allclose(prof["length_m"], 18000.0)

@@ -259,3 +259,13 @@ ERRORS = [
 def test_errors(call, error, match):
     with pytest.raises(error, match=match):
         call()
+
+
+def test_empty_section_still_gives_every_layer():
+    att = attitude_table([(X0 + 5000, Y0 + 5000)])
+    far = gpd.GeoDataFrame({"thrust_id": ["T1"]}, geometry=[shapely.LineString([(0, 0), (1, 1)])], crs=CRS)
+    layers = build_section(shapely.LineString([(X0, Y0), (X0 + 100, Y0)]), att, buffer=10, thrusts=far)
+    assert len(layers["section_points"]) == 0 and len(layers["section_thrusts"]) == 0
+    assert "apparent_dip" in layers["section_points"].columns
+    assert layers["section_line"].loc[0, "n_points"] == 0
+    plot_section(layers)

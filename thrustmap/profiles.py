@@ -599,10 +599,13 @@ def surface_profiles(
             )
         thrust_lines = np.asarray(chosen.geometry.values, dtype=object)
     ids = _profile_ids(lines, len(geoms))
-    samples = sample_profiles(gpd.GeoDataFrame({"profile_id": ids}, geometry=list(geoms), crs=crs), grid, step=step)
+    # sampled by position, so repeated profile ids stay apart
+    samples = sample_profiles(gpd.GeoDataFrame({"profile_id": np.arange(len(geoms))}, geometry=list(geoms), crs=crs),
+                              grid, step=step)
     lengths = shapely.length(geoms)
     rows = []
-    for i, (pid, group) in enumerate(samples.groupby("profile_id", sort=False)):
+    for i, group in samples.groupby("profile_id", sort=True):
+        pid = ids[i]
         d, z = group["distance_m"].to_numpy(), group["elevation"].to_numpy()
         lo = 0.0 if window_start is None else float(window_start)
         hi = lengths[i] if window_end is None else float(window_end)
