@@ -225,3 +225,21 @@ def test_repeated_profile_ids_stay_apart():
     prof = surface_profiles(layer, wedge_grid(), azimuth=AZIMUTH, step=200.0)
     assert len(prof) == 3 and prof["alpha"].notna().all()
     np.testing.assert_allclose(prof["length_m"], 18000.0)
+
+
+def test_toe_thrust_leaves_the_foreland_out():
+    grid = wedge_grid()
+    s = along(*np.meshgrid(grid.x0 + (np.arange(grid.values.shape[1]) + 0.5) * grid.cell,
+                           grid.y0 - (np.arange(grid.values.shape[0]) + 0.5) * grid.cell))
+    toe = 6000.0
+    grid.values = np.where(s > toe, wedge_surface(toe) - (s - toe) * np.tan(np.radians(0.2)), grid.values)
+    a = np.radians(AZIMUTH)
+    u, n = np.array([np.sin(a), np.cos(a)]), np.array([np.cos(a), -np.sin(a)])
+    thrusts = gpd.GeoDataFrame({"thrust_id": ["T9"]}, crs=CRS,
+                               geometry=[shapely.LineString([ORIGIN + toe * u - 8000 * n, ORIGIN + toe * u + 8000 * n])])
+    kw = dict(azimuth=AZIMUTH, step=100.0, break_distance=9000.0)
+    cut = surface_profiles(profile_layer(), grid, thrusts=thrusts, toe_thrust="T9", **kw)
+    whole = surface_profiles(profile_layer(), grid, **kw)
+    np.testing.assert_allclose(cut["window_end_m"], 9000.0 + toe, atol=1e-6)
+    np.testing.assert_allclose(cut["alpha_front"], FRONT, rtol=0.10)
+    assert (whole["alpha_front"] < 0.8 * FRONT).all()  # the foreland flattens an uncut fit

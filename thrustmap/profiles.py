@@ -524,6 +524,7 @@ def surface_profiles(
     break_distance: float | None = None,
     thrusts: gpd.GeoDataFrame | None = None,
     break_thrust: str | None = None,
+    toe_thrust: str | None = None,
     min_samples: int = 10,
 ) -> gpd.GeoDataFrame:
     """The ``profiles`` layer: regional, rear and frontal surface slopes along each profile line.
@@ -550,6 +551,9 @@ def surface_profiles(
         that thrust crosses each profile.
     break_thrust : str, optional
         ``thrust_id`` of the thrust to split at.
+    toe_thrust : str, optional
+        ``thrust_id`` of the frontal thrust (the wedge's toe): the window ends
+        where it crosses each profile, leaving the foreland out.
     min_samples : int
         Fewest valid samples for a slope (per window or side).
 
@@ -587,17 +591,8 @@ def surface_profiles(
         raise ParameterError(
             f"window_end = {window_end} m must be greater than window_start = {window_start} m"
         )
-    thrust_lines = None
-    if break_thrust is not None:
-        if thrusts is None or "thrust_id" not in thrusts.columns:
-            raise ParameterError("break_thrust needs a thrust_traces layer with a thrust_id field")
-        chosen = thrusts[thrusts["thrust_id"].astype(str) == str(break_thrust)]
-        if chosen.empty:
-            raise ParameterError(
-                f"break_thrust = {break_thrust!r} is not a thrust_id of the thrust layer; ids are: "
-                + ", ".join(sorted(thrusts["thrust_id"].astype(str).unique()))
-            )
-        thrust_lines = np.asarray(chosen.geometry.values, dtype=object)
+    break_lines = _thrust_lines(thrusts, break_thrust, "break_thrust")
+    toe_lines = _thrust_lines(thrusts, toe_thrust, "toe_thrust")
     ids = _profile_ids(lines, len(geoms))
     # sampled by position, so repeated profile ids stay apart
     samples = sample_profiles(gpd.GeoDataFrame({"profile_id": np.arange(len(geoms))}, geometry=list(geoms), crs=crs),
@@ -609,14 +604,20 @@ def surface_profiles(
         d, z = group["distance_m"].to_numpy(), group["elevation"].to_numpy()
         lo = 0.0 if window_start is None else float(window_start)
         hi = lengths[i] if window_end is None else float(window_end)
-        inside = (d >= lo) & (d <= hi)
         notes = []
+        if toe_lines is not None:
+            toe, _, _ = crossing_distances(geoms[i], toe_lines)
+            if toe.size:
+                hi = min(hi, float(toe[0]))
+            else:
+                notes.append(f"toe thrust {toe_thrust} does not cross this profile; window not cut")
+        inside = (d >= lo) & (d <= hi)
         fit = fit_slope(d[inside], z[inside], min_samples=min_samples)
         if np.isnan(fit["alpha"]):
             notes.append(f"only {fit['n']} valid samples in the window (need {min_samples})")
         brk, method = break_distance, "given"
-        if brk is None and thrust_lines is not None:
-            dist, _, _ = crossing_distances(geoms[i], thrust_lines)
+        if brk is None and break_lines is not None:
+            dist, _, _ = crossing_distances(geoms[i], break_lines)
             if dist.size:
                 brk, method = float(dist[0]), f"thrust {break_thrust}"
             else:
@@ -647,6 +648,21 @@ def surface_profiles(
             "note": "; ".join(notes),
         })
     return gpd.GeoDataFrame(pd.DataFrame(rows, index=index), geometry=list(geoms), crs=crs)
+
+
+def _thrust_lines(thrusts: gpd.GeoDataFrame | None, thrust_id: str | None, option: str) -> NDArray[np.object_] | None:
+    """Traces of one thrust, by id, or None when no id is asked for."""
+    if thrust_id is None:
+        return None
+    if thrusts is None or "thrust_id" not in thrusts.columns:
+        raise ParameterError(f"{option} needs a thrust_traces layer with a thrust_id field")
+    chosen = thrusts[thrusts["thrust_id"].astype(str) == str(thrust_id)]
+    if chosen.empty:
+        raise ParameterError(
+            f"{option} = {thrust_id!r} is not a thrust_id of the thrust layer; ids are: "
+            + ", ".join(sorted(thrusts["thrust_id"].astype(str).unique()))
+        )
+    return np.asarray(chosen.geometry.values, dtype=object)
 
 
 def _azimuth_of(line: Any) -> float:

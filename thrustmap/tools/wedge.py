@@ -53,6 +53,7 @@ def _surface_profiles(
     window_end: float | None,
     break_distance: float | None,
     break_thrust: str | None,
+    toe_thrust: str | None,
     min_samples: int,
 ) -> dict[str, gpd.GeoDataFrame]:
     if elevation is None:
@@ -66,33 +67,34 @@ def _surface_profiles(
     profiles = surface_profiles(
         profile_lines, _load_grid(elevation), azimuth=azimuth, step=step, window_start=window_start,
         window_end=window_end, break_distance=break_distance, thrusts=thrust_traces,
-        break_thrust=break_thrust, min_samples=min_samples,
+        break_thrust=break_thrust, toe_thrust=toe_thrust, min_samples=min_samples,
     )
     return {"profiles": profiles}
 
 
-def _alpha_from_profiles(profiles: gpd.GeoDataFrame | None) -> tuple[float, float, str]:
-    """Median regional slope of the profiles and its spread (degrees)."""
-    if profiles is None or "alpha" not in profiles.columns:
-        raise ParameterError("wedge-taper: give alpha, or a profiles layer with an alpha field")
-    alpha = pd.to_numeric(profiles["alpha"], errors="coerce").to_numpy(float)
+def _alpha_from_profiles(profiles: gpd.GeoDataFrame | None, field: str) -> tuple[float, float, str]:
+    """Median slope of the profiles in ``field`` and its spread (degrees)."""
+    if profiles is None or field not in profiles.columns:
+        raise ParameterError(f"wedge-taper: give alpha, or a profiles layer with an {field} field")
+    alpha = pd.to_numeric(profiles[field], errors="coerce").to_numpy(float)
     ok = np.isfinite(alpha)
     if not ok.any():
-        raise InputError("no profile has a surface slope", layer="profiles", field="alpha")
+        raise InputError("no profile has a surface slope", layer="profiles", field=field)
     half = np.nan
-    if {"alpha_low", "alpha_high"} <= set(profiles.columns):
-        width = (pd.to_numeric(profiles["alpha_high"], errors="coerce")
-                 - pd.to_numeric(profiles["alpha_low"], errors="coerce")).to_numpy(float)[ok]
+    if {f"{field}_low", f"{field}_high"} <= set(profiles.columns):
+        width = (pd.to_numeric(profiles[f"{field}_high"], errors="coerce")
+                 - pd.to_numeric(profiles[f"{field}_low"], errors="coerce")).to_numpy(float)[ok]
         half = float(np.nanmedian(width)) / (2 * 1.96) if np.isfinite(width).any() else np.nan
     spread = float(np.std(alpha[ok], ddof=1)) if ok.sum() > 1 else 0.0
     sd = float(np.nanmax([spread, half, 0.0]))
-    return float(np.median(alpha[ok])), sd, f"profiles (median of {int(ok.sum())})"
+    return float(np.median(alpha[ok])), sd, f"profiles {field} (median of {int(ok.sum())})"
 
 
 def _wedge_taper(
     profiles: gpd.GeoDataFrame | None,
     *,
     alpha: float | None,
+    profile_slope: str,
     alpha_sd: float | None,
     beta: float | None,
     beta_sd: float,
@@ -112,7 +114,7 @@ def _wedge_taper(
         raise ParameterError("wedge-taper: parameter 'beta' (decollement dip, degrees) is required")
     source = "given"
     if alpha is None:
-        alpha, spread, source = _alpha_from_profiles(profiles)
+        alpha, spread, source = _alpha_from_profiles(profiles, profile_slope)
         alpha_sd = spread if alpha_sd is None else alpha_sd
     kw = dict(friction=friction, basal_friction=basal_friction, pore_ratio=pore_ratio,
               basal_pore_ratio=basal_pore_ratio, setting=setting, method=method,
@@ -232,6 +234,7 @@ SURFACE_PROFILES = Tool(
         Param("break_distance", "float", None, "Split between rear and frontal slopes (default: fitted).",
               unit="metres", minimum=0.0),
         Param("break_thrust", "str", None, "thrust_id of the thrust at which to split rear and frontal slopes."),
+        Param("toe_thrust", "str", None, "thrust_id of the frontal thrust; the foreland beyond it is left out."),
         Param("min_samples", "int", 10, "Fewest valid samples for a slope.", minimum=3),
     ),
     outputs=(LayerOutput("profiles", "line", "Profile lines with regional, rear and frontal slopes."),),
@@ -248,6 +251,8 @@ WEDGE_TAPER = Tool(
     params=(
         Param("alpha", "float", None, "Surface slope, positive toward the foreland (default: profiles' median).",
               unit="degrees", minimum=-89.0, maximum=89.0),
+        Param("profile_slope", "choice", "alpha", "Which profile slope stands for alpha when it is not given: "
+              "regional, frontal or rear.", choices=("alpha", "alpha_front", "alpha_rear")),
         Param("alpha_sd", "float", None, "Standard deviation of alpha (default: spread of the profiles).",
               unit="degrees", minimum=0.0),
         Param("beta", "float", None, "Decollement dip, positive toward the hinterland (required).",
