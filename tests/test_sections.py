@@ -184,8 +184,11 @@ def test_build_and_plot_section(tmp_path):
         layer.to_file(tmp_path / "section.gpkg", layer=name, engine="pyogrio")
     back = gpd.read_file(tmp_path / "section.gpkg", layer="section_points", engine="pyogrio")
     np.testing.assert_allclose(back["apparent_dip"], layers["section_points"]["apparent_dip"])
-    fig = plot_section(layers, vertical_exaggeration=2.0)
+    fig = plot_section(layers, vertical_exaggeration=2.0, decollement=(2000.0, -1500.0, 3.0))
     assert fig.axes[0].get_aspect() == 2.0
+    base = [ln for ln in fig.axes[0].lines if ln.get_label() == "decollement"][0]
+    assert base.get_ydata()[0] == pytest.approx(-1500.0 - 2000.0 * np.tan(np.radians(3.0)))
+    assert fig.axes[0].get_ylim()[0] < base.get_ydata()[0]
     png, svg = save_figure(fig, tmp_path / "section")
     assert png.exists() and svg.exists()
 
@@ -252,6 +255,9 @@ ERRORS = [
     (lambda: plot_section(build_section(shapely.LineString([(X0, Y0), (X0 + 5, Y0)]),
                                         attitude_table([(X0, Y0)], crs=None), buffer=1), vertical_exaggeration=0),
      ParameterError, "vertical_exaggeration"),
+    (lambda: plot_section(build_section(shapely.LineString([(X0, Y0), (X0 + 5, Y0)]),
+                                        attitude_table([(X0, Y0)], crs=None), buffer=1), decollement=(1, 2)),
+     ParameterError, "decollement"),
 ]
 
 

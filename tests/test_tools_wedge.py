@@ -124,6 +124,8 @@ def test_down_plunge_tool_selects_a_domain():
     assert out["axis_trend_grid"].iloc[0] == pytest.approx(90.0)
     by_field = DOWN_PLUNGE.run({"attitudes": att}, {"axis_trend": 92.0, "axis_plunge": 15.0, "domain": "D1"})
     assert len(by_field["section_down_plunge"]) == (att["domain"] == "D1").sum()
+    with pytest.raises(ParameterError, match="no attitudes left"):
+        DOWN_PLUNGE.run({"attitudes": att}, {"axis_trend": 92.0, "axis_plunge": 15.0, "features": "cleavage"})
 
 
 def test_wedge_taper_tool_uses_the_chosen_profile_slope():

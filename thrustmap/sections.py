@@ -500,6 +500,7 @@ def plot_section(
     *,
     vertical_exaggeration: float = 1.0,
     tick_length: float | None = None,
+    decollement: tuple[float, float, float] | None = None,
     title: str | None = None,
 ):
     """Section sketch: topography, attitudes as apparent-dip ticks, thrusts dipping from their crossings.
@@ -513,6 +514,10 @@ def plot_section(
         exaggerated accordingly.
     tick_length : float, optional
         Length of attitude ticks, metres; default 2% of the section length.
+    decollement : tuple of float, optional
+        ``(distance_m, elevation_m, dip)``: a point of the basal detachment and
+        its dip in degrees, positive when it deepens toward the section's start
+        (the hinterland, for a section run along transport); drawn dashed.
     title : str, optional
         Axes title.
 
@@ -523,7 +528,8 @@ def plot_section(
     Raises
     ------
     ParameterError
-        For a vertical exaggeration that is not positive.
+        For a vertical exaggeration that is not positive or a decollement that
+        is not three finite numbers.
 
     Examples
     --------
@@ -544,10 +550,20 @@ def plot_section(
     tick = 0.02 * length if tick_length is None else float(tick_length)
     elevations = np.concatenate([topo["elevation"].to_numpy(float), pts["elevation"].to_numpy(float),
                                  thr["elevation"].to_numpy(float)])
+    base = None
+    if decollement is not None:
+        try:
+            d0, z0, dip0 = (float(v) for v in decollement)
+        except (TypeError, ValueError):
+            raise ParameterError(f"decollement = {decollement!r}: give (distance_m, elevation_m, dip)") from None
+        if not np.all(np.isfinite([d0, z0, dip0])):
+            raise ParameterError(f"decollement = {decollement!r}: values must be finite")
+        base = np.array([0.0, length]), z0 + (np.array([0.0, length]) - d0) * np.tan(np.radians(dip0))
+        elevations = np.concatenate([elevations, base[1]])
     elevations = elevations[np.isfinite(elevations)]
     top = float(elevations.max()) if elevations.size else 0.0
     low = float(elevations.min()) if elevations.size else 0.0
-    depth = max(0.25 * length / ve, 0.5 * (top - low), 1.0)
+    depth = max(0.25 * length / ve, 0.5 * (top - low), 1.0) if base is None else max(0.05 * (top - low), 1.0)
     bottom = low - depth
     box = (top - bottom + 0.1 * depth) * ve / max(length, 1e-9)  # axes height over width
     fig, ax = plt.subplots(figsize=(10.0, float(np.clip(9.0 * box, 1.5, 8.0)) + 1.3), layout="constrained")
@@ -555,6 +571,8 @@ def plot_section(
         d, z = topo["distance_m"].to_numpy(float), topo["elevation"].to_numpy(float)
         ax.fill_between(d, z, bottom, color="#f3efe6", lw=0)
         ax.plot(d, z, color="#4d4d4d", lw=1.2, label="topography")
+    if base is not None:
+        ax.plot(base[0], base[1], color="black", lw=1.4, ls=(0, (6, 3)), label="decollement")
     for _, t in thr.iterrows():
         z0 = t["elevation"] if np.isfinite(t["elevation"]) else 0.0
         ax.plot([t["distance_m"]], [z0], marker="v", color="#b2182b", ms=7)

@@ -170,11 +170,18 @@ def _down_plunge(
     axis_trend: float | None,
     axis_plunge: float | None,
     domain: str | None,
+    features: str | None,
     elevation: str | None,
 ) -> dict[str, gpd.GeoDataFrame]:
     if axis_trend is None or axis_plunge is None:
         raise ParameterError("down-plunge: parameters 'axis_trend' and 'axis_plunge' (the fold axis) are required")
     chosen = attitudes
+    wanted = [f.strip() for f in (features or "").split(",") if f.strip()]
+    if wanted:
+        if "feature" not in attitudes.columns:
+            raise InputError("missing column feature (needed to select features)", layer="attitudes",
+                             field="feature")
+        chosen = chosen[chosen["feature"].astype(str).isin(wanted).to_numpy()]
     if domain is not None:
         if domains is not None:
             if "domain" not in domains.columns:
@@ -185,14 +192,16 @@ def _down_plunge(
                     f"domain = {domain!r} is not in layer domains; domains are: "
                     + ", ".join(domains["domain"].astype(str).tolist())
                 )
-            inside = attitudes.geometry.within(polygons.geometry.union_all())
-            chosen = attitudes[inside.to_numpy()]
-        elif "domain" in attitudes.columns:
-            chosen = attitudes[attitudes["domain"].astype(str) == str(domain)]
+            inside = chosen.geometry.within(polygons.geometry.union_all())
+            chosen = chosen[inside.to_numpy()]
+        elif "domain" in chosen.columns:
+            chosen = chosen[chosen["domain"].astype(str) == str(domain)]
         else:
             raise ParameterError("down-plunge: selecting a domain needs a domains layer or a domain field")
-        if chosen.empty:
-            raise ParameterError(f"down-plunge: no attitudes lie in domain {domain!r}")
+    if chosen.empty:
+        raise ParameterError(
+            f"down-plunge: no attitudes left (domain {domain!r}, features {', '.join(wanted) or 'all'})"
+        )
     # the axis is given in true north; the view is built in grid north
     if "convergence" in chosen.columns and chosen["convergence"].notna().any():
         trend_grid = (float(axis_trend) - float(chosen["convergence"].mean())) % 360.0
@@ -322,6 +331,7 @@ DOWN_PLUNGE = Tool(
         Param("axis_plunge", "float", None, "Fold-axis plunge (required).", unit="degrees", minimum=0.0,
               maximum=90.0),
         Param("domain", "str", None, "Domain to project (default: every attitude)."),
+        Param("features", "str", "bedding", "Comma-separated features to project (empty: all)."),
         _ELEVATION,
     ),
     outputs=(LayerOutput("section_down_plunge", "point", "Stations in the down-plunge view."),),
