@@ -28,3 +28,8 @@ lint: $(STAMP)
 
 clean:
 	rm -rf out build dist *.egg-info .pytest_cache
+
+.PHONY: sample
+# Regenerate the synthetic demo data in sample_gis/ (see sample_gis/README.md).
+sample: $(STAMP)
+	$(BIN)/python -m thrustmap.synth sample_gis --overwrite
