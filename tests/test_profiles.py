@@ -10,6 +10,7 @@ from scipy.interpolate import RegularGridInterpolator
 
 from thrustmap.errors import CRSError, InputError, ParameterError
 from thrustmap.figures import save_figure
+from thrustmap.io.grid import Grid
 from thrustmap.profiles import (
     check_grid_crs,
     fit_slope,
@@ -85,11 +86,10 @@ def test_bilinear_nodata_and_outside():
 
 
 def test_shared_grid_class_samples_like_the_fallback():
-    grid_module = pytest.importorskip("thrustmap.io.grid")
     rng = np.random.default_rng(2)
     values = rng.normal(size=(6, 5))
     values[2, 3] = np.nan
-    real = grid_module.Grid(values, x0=0.0, y0=60.0, cell=10.0, crs=CRS)
+    real = Grid(values, x0=0.0, y0=60.0, cell=10.0, crs=CRS)
     bare = SimpleNamespace(values=values, x0=0.0, y0=60.0, cell=10.0)
     x, y = rng.uniform(5, 45, 300), rng.uniform(5, 55, 300)
     np.testing.assert_allclose(sample_elevation(real, x, y), sample_elevation(bare, x, y), atol=1e-12)

@@ -11,6 +11,9 @@ import pytest
 import shapely
 
 from thrustmap.errors import ParameterError
+from thrustmap.io.grid import Grid, write_ascii_grid
+from thrustmap.tools.declare import FileOutput, LayerOutput
+from thrustmap.tools.runner import collect_outputs, example_invocation, load_inputs, write_outputs
 from thrustmap.tools.wedge import DOWN_PLUNGE, SECTION, SURFACE_PROFILES, TOOLS, WEDGE_TAPER
 from thrustmap.wedge import critical_taper
 
@@ -70,6 +73,10 @@ def test_wedge_taper_tool_from_profiles():
         (SURFACE_PROFILES, {}, {"elevation": "dem.tif"}, "ESRI ASCII"),
         (SECTION, {"attitudes": gpd.GeoDataFrame(geometry=[])}, {}, "section_line"),
         (DOWN_PLUNGE, {"attitudes": gpd.GeoDataFrame(geometry=[])}, {"axis_trend": 10}, "axis_plunge"),
+        (SECTION, {"attitudes": gpd.GeoDataFrame({"kind": [], "dip_direction_grid": [], "dip": [],
+                                                  "trend_grid": [], "plunge": []}, geometry=[], crs=CRS),
+                   "section_line": gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1, 0)])], crs=CRS)},
+         {"decollement_dip": 3.0}, "all of decollement"),
     ],
 )
 def test_tool_errors(tool, inputs, params, match):
@@ -137,13 +144,12 @@ def test_wedge_taper_tool_uses_the_chosen_profile_slope():
 
 
 def test_surface_profiles_tool_reads_the_shared_grid(tmp_path):
-    grid_module = pytest.importorskip("thrustmap.io.grid")
     cell = 100.0
     x = X0 - 5000 + (np.arange(100) + 0.5) * cell
     values = np.tile(2000.0 - (x - x[0]) * np.tan(np.radians(2.5)), (100, 1))
-    grid = grid_module.Grid(values, x0=X0 - 5000, y0=Y0 + 5000, cell=cell, crs=CRS)
+    grid = Grid(values, x0=X0 - 5000, y0=Y0 + 5000, cell=cell, crs=CRS)
     path = tmp_path / "elevation.asc"
-    grid_module.write_ascii_grid(path, grid)
+    write_ascii_grid(path, grid)
     area = gpd.GeoDataFrame({"name": ["synthetic area"]}, geometry=[shapely.box(X0 - 4000, Y0 - 4000, X0 + 4000, Y0 + 4000)],
                             crs=CRS)
     out = SURFACE_PROFILES.run({"study_area": area}, {"elevation": str(path), "azimuth": 90.0, "spacing": 2000.0})
@@ -153,10 +159,8 @@ def test_surface_profiles_tool_reads_the_shared_grid(tmp_path):
     assert isinstance(prof, pd.DataFrame) and prof.crs == area.crs
 
 
-@pytest.mark.skipif(not (SAMPLE_GIS / "truth.json").exists(), reason="needs the bundled synthetic scenario")
 def test_synthetic_scenario_wedge_slopes():
     # truth: the generated slopes in sample_gis/truth.json; the issue asks for 10%
-    pytest.importorskip("thrustmap.io.grid")
     truth = json.loads((SAMPLE_GIS / "truth.json").read_text())
     gpkg = SAMPLE_GIS / "scenario.gpkg"
     area = gpd.read_file(gpkg, layer="study_area", engine="pyogrio")
@@ -170,3 +174,20 @@ def test_synthetic_scenario_wedge_slopes():
     assert len(split) >= 2
     np.testing.assert_allclose(split["alpha_rear"], truth["wedge"]["rear_slope_deg"], rtol=0.10)
     np.testing.assert_allclose(split["alpha_front"], truth["wedge"]["frontal_slope_deg"], rtol=0.10)
+
+
+@pytest.mark.parametrize("tool", TOOLS, ids=[t.name for t in TOOLS])
+def test_examples_write_every_declared_output(tool, tmp_path):
+    # the same path as the command line: read the sources, run, write layers and files
+    sources, params = example_invocation(tool, tmp_path / "inputs")
+    inputs = load_inputs(tool, sources, to_crs=CRS)
+    layers, files = collect_outputs(tool, tool.run(inputs, params))
+    gpkg = tmp_path / "out" / "result.gpkg"
+    write_outputs(layers, files, geopackage=gpkg, folder=gpkg.parent, overwrite=False)
+    for out in tool.outputs:
+        if isinstance(out, LayerOutput):
+            assert len(gpd.read_file(gpkg, layer=out.name, engine="pyogrio")) > 0, out.name
+        else:
+            assert isinstance(out, FileOutput)
+            head = (gpkg.parent / out.filename).read_bytes()[:200]
+            assert head.startswith(b"\x89PNG") if out.filename.endswith(".png") else b"<svg" in head

@@ -1,15 +1,17 @@
-"""Writing matplotlib figures: one stem, several formats, each written atomically."""
+"""Writing matplotlib figures: several formats from one stem, atomically, with the review caution."""
 
 from __future__ import annotations
 
 import logging
 import os
-import tempfile
+from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 from thrustmap.errors import OutputExistsError, ParameterError
+from thrustmap.io.atomic import write_file
 
-__all__ = ["CAUTION", "FIGURE_FORMATS", "add_caution", "save_figure"]
+__all__ = ["CAUTION", "FIGURE_FORMATS", "add_caution", "figure_writer", "save_figure"]
 
 log = logging.getLogger(__name__)
 
@@ -19,6 +21,9 @@ CAUTION = (
     "Interpretive aid; to be reviewed by a qualified geologist. "
     "Local codes and licensed practice prevail."
 )
+
+# no timestamps in vector files, so reruns give identical files
+_METADATA = {"svg": {"Date": None}, "pdf": {"CreationDate": None}}
 
 
 def add_caution(ax, text: str = CAUTION) -> None:
@@ -37,6 +42,44 @@ def add_caution(ax, text: str = CAUTION) -> None:
                 va="top", ha="left", fontsize=6.5, color="#555555")
 
 
+def _format(path: Path) -> str:
+    fmt = path.suffix.lower().lstrip(".")
+    if fmt not in FIGURE_FORMATS:
+        raise ParameterError(f"figure {path}: format {fmt!r} not valid; choose from {', '.join(FIGURE_FORMATS)}")
+    return fmt
+
+
+def _savefig(fig: Any, path: Path, dpi: int) -> None:
+    fmt = _format(path)
+    fig.savefig(path, format=fmt, dpi=dpi, metadata=_METADATA.get(fmt))
+
+
+def figure_writer(make_figure: Callable[[], Any], *, dpi: int = 200) -> Callable[[Path], None]:
+    """A ``writer(path)`` for a tool's file output: draws the figure, saves it, closes it.
+
+    The format follows the suffix of the path (png, svg or pdf).
+
+    Examples
+    --------
+    >>> import matplotlib.pyplot as plt, tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "blank.svg"
+    >>> figure_writer(lambda: plt.subplots()[0])(path)
+    >>> path.read_text().count("<svg")
+    1
+    """
+
+    def write(path: Path) -> None:
+        import matplotlib.pyplot as plt
+
+        fig = make_figure()
+        try:
+            _savefig(fig, Path(path), dpi)
+        finally:
+            plt.close(fig)
+
+    return write
+
+
 def save_figure(
     fig,
     stem: str | os.PathLike,
@@ -45,7 +88,7 @@ def save_figure(
     dpi: int = 200,
     overwrite: bool = False,
 ) -> list[Path]:
-    """Save a figure as ``stem.png``, ``stem.svg``, ... through a temporary file and a rename.
+    """Save a figure as ``stem.png``, ``stem.svg``, ... each through a temporary file and a rename.
 
     Parameters
     ----------
@@ -81,27 +124,18 @@ def save_figure(
     ['.png', '.svg']
     >>> plt.close(fig)
     """
-    bad = [f for f in formats if f not in FIGURE_FORMATS]
-    if bad or not formats:
-        raise ParameterError(f"figure formats {list(formats)} not valid; choose from {', '.join(FIGURE_FORMATS)}")
     base = Path(stem)
     targets = [base.with_suffix(f".{f}") for f in formats]
+    if not targets:
+        raise ParameterError(f"figure formats: give at least one of {', '.join(FIGURE_FORMATS)}")
+    for target in targets:
+        _format(target)
     existing = [str(p) for p in targets if p.exists()]
     if existing and not overwrite:
         raise OutputExistsError(
             f"output exists: {', '.join(existing)}; pass overwrite=True (--overwrite) to replace it"
         )
-    base.parent.mkdir(parents=True, exist_ok=True)
-    for fmt, target in zip(formats, targets, strict=True):
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}-", suffix=f".{fmt}", dir=target.parent)
-        os.close(fd)
-        try:
-            # no timestamps, so reruns give identical vector files
-            meta = {"svg": {"Date": None}, "pdf": {"CreationDate": None}}.get(fmt)
-            fig.savefig(tmp, format=fmt, dpi=dpi, metadata=meta)
-            os.replace(tmp, target)
-        finally:
-            if os.path.exists(tmp):
-                os.remove(tmp)
+    for target in targets:
+        write_file(target, lambda tmp: _savefig(fig, Path(tmp), dpi), overwrite=overwrite)
         log.info("wrote %s", target)
     return targets

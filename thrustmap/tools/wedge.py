@@ -14,12 +14,28 @@ from typing import Any
 import geopandas as gpd
 import numpy as np
 import pandas as pd
+import shapely
 
-from thrustmap.errors import InputError, ParameterError
-from thrustmap.profiles import surface_profiles, transport_lines
-from thrustmap.sections import _true_to_grid, build_section, down_plunge
-from thrustmap.tools.declare import LayerInput, LayerOutput, Param, Tool
-from thrustmap.wedge import METHODS, SETTINGS, assess_wedge, envelope
+from thrustmap.errors import InputError, ParameterError, SourceNotFoundError
+from thrustmap.figures import figure_writer
+from thrustmap.orientation import strike_to_dip_direction
+from thrustmap.profiles import plot_profiles, sample_profiles, surface_profiles, transport_lines
+from thrustmap.sections import (
+    _true_to_grid,
+    build_section,
+    down_plunge,
+    plot_down_plunge,
+    plot_section,
+)
+from thrustmap.tools.declare import Example, FileOutput, LayerInput, LayerOutput, Param, Tool
+from thrustmap.wedge import (
+    METHODS,
+    SETTINGS,
+    assess_wedge,
+    envelope,
+    plot_envelope,
+    state_probabilities,
+)
 
 __all__ = ["TOOLS", "SURFACE_PROFILES", "WEDGE_TAPER", "SECTION", "DOWN_PLUNGE"]
 
@@ -55,7 +71,7 @@ def _surface_profiles(
     break_thrust: str | None,
     toe_thrust: str | None,
     min_samples: int,
-) -> dict[str, gpd.GeoDataFrame]:
+) -> dict[str, Any]:
     if elevation is None:
         raise ParameterError("surface-profiles: parameter 'elevation' (path to the elevation grid) is required")
     if profile_lines is None:
@@ -64,12 +80,15 @@ def _surface_profiles(
                 "surface-profiles: give profile_lines, or a study_area with the transport azimuth"
             )
         profile_lines = transport_lines(study_area, azimuth=azimuth, spacing=spacing)
+    grid = _load_grid(elevation)
     profiles = surface_profiles(
-        profile_lines, _load_grid(elevation), azimuth=azimuth, step=step, window_start=window_start,
+        profile_lines, grid, azimuth=azimuth, step=step, window_start=window_start,
         window_end=window_end, break_distance=break_distance, thrusts=thrust_traces,
         break_thrust=break_thrust, toe_thrust=toe_thrust, min_samples=min_samples,
     )
-    return {"profiles": profiles}
+    samples = sample_profiles(profiles, grid, step=step)
+    draw = figure_writer(lambda: plot_profiles(samples, profiles, title="Transport-parallel surface profiles"))
+    return {"profiles": profiles, "profiles_png": draw, "profiles_svg": draw}
 
 
 def _alpha_from_profiles(profiles: gpd.GeoDataFrame | None, field: str) -> tuple[float, float, str]:
@@ -109,7 +128,7 @@ def _wedge_taper(
     tolerance: float,
     samples: int,
     seed: int,
-) -> dict[str, pd.DataFrame]:
+) -> dict[str, Any]:
     if beta is None:
         raise ParameterError("wedge-taper: parameter 'beta' (decollement dip, degrees) is required")
     source = "given"
@@ -119,10 +138,17 @@ def _wedge_taper(
     kw = dict(friction=friction, basal_friction=basal_friction, pore_ratio=pore_ratio,
               basal_pore_ratio=basal_pore_ratio, setting=setting, method=method,
               fluid_density=fluid_density, rock_density=rock_density)
-    taper = assess_wedge(alpha, beta, alpha_sd=alpha_sd or 0.0, beta_sd=beta_sd, tolerance=tolerance,
+    sd = alpha_sd or 0.0
+    taper = assess_wedge(alpha, beta, alpha_sd=sd, beta_sd=beta_sd, tolerance=tolerance,
                          samples=samples, seed=seed, **kw)
     taper.insert(1, "alpha_source", source)
-    return {"taper": taper, "taper_envelope": envelope(**kw)}
+    env = envelope(**kw)
+    odds = state_probabilities(alpha, beta, alpha_sd=sd, beta_sd=beta_sd, tolerance=tolerance,
+                               samples=samples, seed=seed, **kw)
+    draw = figure_writer(lambda: plot_envelope(
+        env, alpha=alpha, beta=beta, alpha_sd=sd, beta_sd=beta_sd, uncertainty=odds,
+        title=f"Critical taper ({method}, {setting}): {taper['state'].iloc[0]}"))
+    return {"taper": taper, "taper_envelope": env, "taper_png": draw, "taper_svg": draw}
 
 
 def _pick(layer: gpd.GeoDataFrame, section_id: str | None, name: str) -> tuple[gpd.GeoDataFrame, Any]:
@@ -154,13 +180,26 @@ def _section(
     section_id: str | None,
     buffer: float,
     step: float | None,
-) -> dict[str, gpd.GeoDataFrame]:
+    vertical_exaggeration: float,
+    decollement_distance: float | None,
+    decollement_elevation: float | None,
+    decollement_dip: float | None,
+) -> dict[str, Any]:
     source, name = (section_line, "section_line") if section_line is not None else (profiles, "profiles")
     if source is None or source.empty:
         raise ParameterError("section: give a section_line layer or a profiles layer to draw the section along")
     line, sid = _pick(source, section_id, name)
-    return build_section(line.geometry, attitudes, buffer=buffer, thrusts=thrust_traces,
-                         grid=_load_grid(elevation), step=step, section_id=sid)
+    layers = build_section(line.geometry, attitudes, buffer=buffer, thrusts=thrust_traces,
+                           grid=_load_grid(elevation), step=step, section_id=sid)
+    base = (decollement_distance, decollement_elevation, decollement_dip)
+    if any(v is not None for v in base) and any(v is None for v in base):
+        raise ParameterError(
+            "section: give all of decollement_distance, decollement_elevation and decollement_dip, or none"
+        )
+    decollement = None if base[0] is None else base
+    draw = figure_writer(lambda: plot_section(layers, vertical_exaggeration=vertical_exaggeration,
+                                              decollement=decollement))
+    return {**layers, "section_png": draw, "section_svg": draw}
 
 
 def _down_plunge(
@@ -172,7 +211,7 @@ def _down_plunge(
     domain: str | None,
     features: str | None,
     elevation: str | None,
-) -> dict[str, gpd.GeoDataFrame]:
+) -> dict[str, Any]:
     if axis_trend is None or axis_plunge is None:
         raise ParameterError("down-plunge: parameters 'axis_trend' and 'axis_plunge' (the fold axis) are required")
     chosen = attitudes
@@ -211,11 +250,78 @@ def _down_plunge(
     view = down_plunge(chosen, trend_grid=trend_grid, plunge=axis_plunge, grid=_load_grid(elevation))
     if "domain" not in view.columns:
         view.insert(0, "domain", "" if domain is None else str(domain))
-    return {"section_down_plunge": view}
+    draw = figure_writer(lambda: plot_down_plunge(
+        view, title=f"Down-plunge view, {'domain ' + str(domain) if domain else 'all stations'}: "
+                    f"{float(axis_plunge):.0f} -> {float(axis_trend):03.0f} (true)"))
+    return {"section_down_plunge": view, "down_plunge_png": draw, "down_plunge_svg": draw}
 
 
-_ELEVATION = Param("elevation", "str", None, "Elevation grid: ESRI ASCII grid (.asc) with a .prj sidecar, "
-                   "in the working CRS.")
+# The worked examples read the bundled synthetic scenario of a source checkout.
+_SAMPLE = Path(__file__).resolve().parents[2] / "sample_gis"
+_SCENARIO = _SAMPLE / "scenario.gpkg"
+_SAMPLE_ELEVATION = str(_SAMPLE / "elevation.asc")
+_TRANSPORT_GRID = 20.0  # the scenario's transport azimuth, grid north
+
+
+def _scenario(layer: str) -> str:
+    if not _SCENARIO.exists():
+        raise SourceNotFoundError(
+            f"file {_SCENARIO}: not found; the worked examples read the bundled synthetic sample_gis/ "
+            "of a source checkout"
+        )
+    return f"{_SCENARIO}:{layer}"
+
+
+def _example_attitudes() -> gpd.GeoDataFrame:
+    """The scenario's stations as an attitude table with grid-north columns (as the reader makes)."""
+    source, layer = _scenario("stations").rsplit(":", 1)
+    st = gpd.read_file(source, layer=layer, engine="pyogrio")
+    xy = shapely.get_coordinates(np.asarray(st.geometry.values))
+    strike = pd.to_numeric(st["strike"], errors="coerce").to_numpy(float)
+    trend = pd.to_numeric(st["trend"], errors="coerce").to_numpy(float)
+    dip_direction = strike_to_dip_direction(strike)
+    dd_grid, _ = _true_to_grid(dip_direction, xy, st.crs)
+    north_grid, _ = _true_to_grid(np.zeros(len(st)), xy, st.crs)
+    return gpd.GeoDataFrame(
+        {
+            "source_row": np.arange(1, len(st) + 1),
+            "station": st["station_id"].astype(str),
+            "feature": st["feature"].astype(str),
+            "kind": np.where(np.isfinite(strike), "plane", "line"),
+            "dip_direction": dip_direction, "dip": pd.to_numeric(st["dip"], errors="coerce"),
+            "strike": strike, "trend": trend, "plunge": pd.to_numeric(st["plunge"], errors="coerce"),
+            "azimuth_ref": "true",
+            "dip_direction_grid": dd_grid,
+            "trend_grid": _true_to_grid(trend, xy, st.crs)[0],
+            "convergence": (-north_grid + 180.0) % 360.0 - 180.0,
+        },
+        geometry=st.geometry.values, crs=st.crs,
+    )
+
+
+def _profiles_example(folder: Path) -> dict[str, str]:
+    return {"study_area": _scenario("study_area"), "thrust_traces": _scenario("thrust_traces")}
+
+
+def _taper_example(folder: Path) -> dict[str, Any]:
+    return {}
+
+
+def _section_example(folder: Path) -> dict[str, Any]:
+    a = np.radians(_TRANSPORT_GRID)
+    centre, u = np.array([715000.0, 5095000.0]), np.array([np.sin(a), np.cos(a)])
+    line = gpd.GeoDataFrame({"section_id": ["A"]}, geometry=[shapely.LineString([centre - 14000 * u,
+                                                                                centre + 14000 * u])],
+                            crs=_example_attitudes().crs)
+    return {"attitudes": _example_attitudes(), "section_line": line, "thrust_traces": _scenario("thrust_traces")}
+
+
+def _down_plunge_example(folder: Path) -> dict[str, Any]:
+    return {"attitudes": _example_attitudes(), "domains": _scenario("domains")}
+
+
+_ELEVATION = Param("elevation", "str", None, "Elevation grid: path of an ESRI ASCII grid (.asc, with its .prj) "
+                   "in the working CRS; a relative path is read from the working folder.")
 
 SURFACE_PROFILES = Tool(
     name="surface-profiles",
@@ -246,8 +352,19 @@ SURFACE_PROFILES = Tool(
         Param("toe_thrust", "str", None, "thrust_id of the frontal thrust; the foreland beyond it is left out."),
         Param("min_samples", "int", 10, "Fewest valid samples for a slope.", minimum=3),
     ),
-    outputs=(LayerOutput("profiles", "line", "Profile lines with regional, rear and frontal slopes."),),
+    outputs=(
+        LayerOutput("profiles", "line", "Profile lines with regional, rear and frontal slopes."),
+        FileOutput("profiles_png", "figures/profiles.png", "Elevation along the profiles with fitted slopes."),
+        FileOutput("profiles_svg", "figures/profiles.svg", "The same figure as SVG."),
+    ),
     group="wedge",
+    example=Example(
+        _profiles_example,
+        {"elevation": _SAMPLE_ELEVATION, "azimuth": _TRANSPORT_GRID, "spacing": 5000.0, "break_thrust": "T3",
+         "toe_thrust": "T5"},
+        "Profiles every 5 km across the synthetic study area, rear and frontal slopes split at thrust T3 "
+        "and ended at the frontal thrust T5.",
+    ),
 )
 
 WEDGE_TAPER = Tool(
@@ -285,8 +402,16 @@ WEDGE_TAPER = Tool(
     outputs=(
         LayerOutput("taper", "table", "Measured wedge, critical slopes, state, probabilities, critical lambda."),
         LayerOutput("taper_envelope", "table", "Compressional and extensional branches of the envelope."),
+        FileOutput("taper_png", "figures/taper_envelope.png", "Envelope with the measured wedge and its "
+                   "uncertainty."),
+        FileOutput("taper_svg", "figures/taper_envelope.svg", "The same figure as SVG."),
     ),
     group="wedge",
+    example=Example(
+        _taper_example,
+        {"alpha": 2.0, "alpha_sd": 0.5, "beta": 3.0, "beta_sd": 1.0, "pore_ratio": 0.4, "samples": 2000},
+        "A wedge with a 2 degree surface over a 3 degree decollement, dry-sand friction, lambda 0.4.",
+    ),
 )
 
 SECTION = Tool(
@@ -307,14 +432,30 @@ SECTION = Tool(
               unit="metres", minimum=0.01),
         Param("step", "float", None, "Topography sample spacing (default one grid cell).", unit="metres",
               minimum=0.01),
+        Param("vertical_exaggeration", "float", 2.0, "Vertical exaggeration of the section sketch.",
+              unit="ratio", minimum=0.1, maximum=50.0),
+        Param("decollement_distance", "float", None, "Distance along the section of a known point of the "
+              "decollement (drawn when all three decollement values are given).", unit="metres", minimum=0.0),
+        Param("decollement_elevation", "float", None, "Elevation of the decollement at that point.",
+              unit="metres"),
+        Param("decollement_dip", "float", None, "Apparent dip of the decollement, positive when it deepens "
+              "toward the section's start.", unit="degrees", minimum=-89.0, maximum=89.0),
     ),
     outputs=(
         LayerOutput("section_line", "line", "The section line with its summary."),
         LayerOutput("section_points", "point", "Projected attitudes with distance, elevation, apparent dip."),
         LayerOutput("section_thrusts", "point", "Thrust crossings with dip and apparent dip."),
         LayerOutput("section_topography", "point", "Elevation along the section."),
+        FileOutput("section_png", "figures/section.png", "Section sketch."),
+        FileOutput("section_svg", "figures/section.svg", "The same figure as SVG."),
     ),
     group="wedge",
+    example=Example(
+        _section_example,
+        {"elevation": _SAMPLE_ELEVATION, "buffer": 1500.0, "decollement_distance": 24000.0,
+         "decollement_elevation": -2500.0, "decollement_dip": 3.0},
+        "A 28 km section along transport through the synthetic belt, stations within 1.5 km.",
+    ),
 )
 
 DOWN_PLUNGE = Tool(
@@ -334,8 +475,17 @@ DOWN_PLUNGE = Tool(
         Param("features", "str", "bedding", "Comma-separated features to project (empty: all)."),
         _ELEVATION,
     ),
-    outputs=(LayerOutput("section_down_plunge", "point", "Stations in the down-plunge view."),),
+    outputs=(
+        LayerOutput("section_down_plunge", "point", "Stations in the down-plunge view."),
+        FileOutput("down_plunge_png", "figures/down_plunge.png", "Down-plunge view with plane traces."),
+        FileOutput("down_plunge_svg", "figures/down_plunge.svg", "The same figure as SVG."),
+    ),
     group="wedge",
+    example=Example(
+        _down_plunge_example,
+        {"axis_trend": 114.3, "axis_plunge": 8.0, "domain": "D1", "elevation": _SAMPLE_ELEVATION},
+        "Bedding of synthetic domain D1 viewed down its fold axis.",
+    ),
 )
 
 TOOLS = (SURFACE_PROFILES, WEDGE_TAPER, SECTION, DOWN_PLUNGE)
