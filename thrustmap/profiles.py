@@ -20,7 +20,7 @@ when it has one.
 from __future__ import annotations
 
 import logging
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import geopandas as gpd
 import numpy as np
@@ -32,6 +32,9 @@ from scipy.stats import theilslopes
 
 from thrustmap.errors import CRSError, DegenerateDataError, InputError, ParameterError
 from thrustmap.figures import add_caution
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 __all__ = [
     "sample_elevation",
@@ -671,7 +674,9 @@ def _azimuth_of(line: Any) -> float:
     return float(np.degrees(np.arctan2(x1 - x0, y1 - y0)) % 360.0)
 
 
-def plot_profiles(samples: gpd.GeoDataFrame, profiles: gpd.GeoDataFrame, *, title: str | None = None):
+def plot_profiles(
+    samples: gpd.GeoDataFrame, profiles: gpd.GeoDataFrame, *, title: str | None = None
+) -> Figure:
     """Figure of elevation along each profile with the fitted rear and frontal slopes.
 
     Parameters

@@ -23,7 +23,7 @@ to it, where a cylindrical fold shows its true profile.
 from __future__ import annotations
 
 import logging
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import geopandas as gpd
 import numpy as np
@@ -42,6 +42,9 @@ from thrustmap.profiles import (
     sample_elevation,
     sample_profiles,
 )
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 __all__ = [
     "apparent_dip",
@@ -502,7 +505,7 @@ def plot_section(
     tick_length: float | None = None,
     decollement: tuple[float, float, float] | None = None,
     title: str | None = None,
-):
+) -> Figure:
     """Section sketch: topography, attitudes as apparent-dip ticks, thrusts dipping from their crossings.
 
     Parameters
@@ -706,7 +709,9 @@ def down_plunge(
                             index=attitudes.index)
 
 
-def plot_down_plunge(view: gpd.GeoDataFrame, *, tick_length: float | None = None, title: str | None = None):
+def plot_down_plunge(
+    view: gpd.GeoDataFrame, *, tick_length: float | None = None, title: str | None = None
+) -> Figure:
     """Figure of a down-plunge view: points with their bedding traces, equal scales.
 
     Parameters

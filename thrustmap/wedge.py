@@ -51,7 +51,7 @@ from __future__ import annotations
 
 import logging
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 import pandas as pd
@@ -60,6 +60,9 @@ from scipy.optimize import brentq
 
 from thrustmap.errors import DegenerateDataError, ParameterError
 from thrustmap.figures import add_caution
+
+if TYPE_CHECKING:
+    from matplotlib.figure import Figure
 
 __all__ = [
     "SETTINGS",
@@ -812,7 +815,7 @@ def plot_envelope(
     uncertainty: TaperUncertainty | None = None,
     title: str | None = None,
     ax: Any = None,
-):
+) -> Figure:
     """Figure of the stability envelope with the measured wedge and its uncertainty.
 
     Parameters
