@@ -85,7 +85,7 @@ def test_bilinear_nodata_and_outside():
     assert got[2] == pytest.approx(15.0) and got[4] == pytest.approx(0.0)
 
 
-def test_shared_grid_class_samples_like_the_fallback():
+def test_grid_and_grid_like_objects_sample_alike():
     rng = np.random.default_rng(2)
     values = rng.normal(size=(6, 5))
     values[2, 3] = np.nan
@@ -93,6 +93,7 @@ def test_shared_grid_class_samples_like_the_fallback():
     bare = SimpleNamespace(values=values, x0=0.0, y0=60.0, cell=10.0)
     x, y = rng.uniform(5, 45, 300), rng.uniform(5, 55, 300)
     np.testing.assert_allclose(sample_elevation(real, x, y), sample_elevation(bare, x, y), atol=1e-12)
+    assert np.isnan(sample_elevation(real, 38.0, 33.0))  # touches the nodata cell
 
 
 def test_transport_lines_are_parallel_spaced_and_oriented():

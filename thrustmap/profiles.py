@@ -11,10 +11,9 @@ frontal slopes are fitted separately on either side of a break: a distance
 given by the user, the crossing of a named thrust, or the break that best
 splits the profile into two straight segments.
 
-Grids are any object with ``values`` (2-D, rows north to south, NaN for
-nodata), ``x0``, ``y0`` (upper-left corner), ``cell`` (metres) and ``crs``,
-such as :class:`thrustmap.io.grid.Grid`; its own ``sample(x, y)`` method is used
-when it has one.
+Grids are :class:`thrustmap.io.grid.Grid` objects (``values`` 2-D, rows north
+to south, NaN for nodata; ``x0``, ``y0`` the upper-left corner; ``cell`` in
+metres; ``crs``) or any object with those attributes.
 """
 
 from __future__ import annotations
@@ -32,6 +31,7 @@ from scipy.stats import theilslopes
 
 from thrustmap.errors import CRSError, DegenerateDataError, InputError, ParameterError
 from thrustmap.figures import add_caution
+from thrustmap.io.grid import Grid
 
 if TYPE_CHECKING:
     from matplotlib.figure import Figure
@@ -61,13 +61,14 @@ def sample_elevation(grid: Any, x: ArrayLike, y: ArrayLike) -> Float:
     """Elevation at points by bilinear interpolation between cell centres.
 
     Points outside the grid and points whose interpolation touches a nodata
-    (NaN) cell give NaN.
+    (NaN) cell give NaN (see :meth:`thrustmap.io.grid.Grid.sample`).
 
     Parameters
     ----------
     grid : Grid-like
-        Object with ``values``, ``x0``, ``y0``, ``cell``; its ``sample(x, y)``
-        method is used when present.
+        A :class:`~thrustmap.io.grid.Grid`, any object with a ``sample(x, y)``
+        method, or an object with ``values``, ``x0``, ``y0``, ``cell`` (and
+        optionally ``crs``) from which a Grid is made.
     x, y : array_like
         Coordinates in the grid's CRS, metres.
 
@@ -83,27 +84,9 @@ def sample_elevation(grid: Any, x: ArrayLike, y: ArrayLike) -> Float:
     >>> sample_elevation(g, [10.0, 5.0, 99.0], [10.0, 15.0, 0.0]).tolist()
     [15.0, 0.0, nan]
     """
-    if callable(getattr(grid, "sample", None)):
-        return np.asarray(grid.sample(x, y), dtype=float)
-    values = np.asarray(grid.values, dtype=float)
-    xb, yb = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
-    rows, cols = values.shape
-    cell = float(grid.cell)
-    # fractional indices of the cell-centre lattice
-    fc = (xb - float(grid.x0)) / cell - 0.5
-    fr = (float(grid.y0) - yb) / cell - 0.5
-    inside = (fc >= -0.5) & (fc <= cols - 0.5) & (fr >= -0.5) & (fr <= rows - 0.5)
-    fc = np.clip(np.where(inside, fc, 0.0), 0.0, cols - 1.0)
-    fr = np.clip(np.where(inside, fr, 0.0), 0.0, rows - 1.0)
-    c0 = np.minimum(np.floor(fc).astype(np.intp), max(cols - 2, 0))
-    r0 = np.minimum(np.floor(fr).astype(np.intp), max(rows - 2, 0))
-    c1, r1 = np.minimum(c0 + 1, cols - 1), np.minimum(r0 + 1, rows - 1)
-    tc, tr = fc - c0, fr - r0
-    corners = np.stack([values[r0, c0], values[r0, c1], values[r1, c0], values[r1, c1]])
-    weights = np.stack([(1 - tr) * (1 - tc), (1 - tr) * tc, tr * (1 - tc), tr * tc])
-    nodata = np.any(np.isnan(corners) & (weights > 0), axis=0)
-    out = np.sum(np.where(np.isnan(corners), 0.0, corners) * weights, axis=0)
-    return np.where(inside & ~nodata, out, np.nan)
+    if not callable(getattr(grid, "sample", None)):
+        grid = Grid(grid.values, x0=grid.x0, y0=grid.y0, cell=grid.cell, crs=getattr(grid, "crs", None))
+    return np.asarray(grid.sample(x, y), dtype=float)
 
 
 def _crs(value: Any) -> CRS | None:
