@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import logging
 from pathlib import Path
 
 import geopandas as gpd
@@ -13,8 +12,6 @@ from thrustmap.tools.declare import Example, LayerInput, LayerOutput, Param, Too
 from thrustmap.tools.options import AZIMUTH_REF, CRS, DATE, DECLINATION
 
 __all__ = ["INGEST_ATTITUDES", "TOOLS"]
-
-log = logging.getLogger(__name__)
 
 
 def _ingest(
@@ -38,8 +35,6 @@ def _ingest(
         plane_azimuth=plane_azimuth,
         default_feature=default_feature,
     )
-    for line in result.summary().splitlines():
-        log.info("%s", line)
     return {"attitudes": result.accepted, "attitudes_rejected": result.rejected}
 
 
