@@ -523,6 +523,10 @@ def test_clear_crs_errors_for_frames_and_layers(tmp_path):
     with pytest.raises(InputError, match=r"layer c: no such layer; layers are: a, b"):
         read_attitudes(path, layer="c")
     assert read_attitudes(path, layer="b").source.endswith("(layer b)")
+    with pytest.raises(
+        ParameterError, match="engine='gdal' is not valid; choose one of pyogrio, fiona"
+    ):
+        read_attitudes(path, layer="a", engine="gdal")
     with pytest.raises(SourceNotFoundError, match="not found"):
         read_attitudes(tmp_path / "missing.gpkg")
 
