@@ -100,9 +100,16 @@ def direction_sums(lines: ArrayLike, n: int | None = None) -> Float:
     lines = np.asarray(lines, dtype=object)
     parts, owner = explode(lines)
     start, end, seg_owner = segments(parts)
-    out = np.zeros((len(lines) if n is None else n, 2))
-    np.add.at(out, owner[seg_owner], end - start)
-    return out
+    size = len(lines) if n is None else n
+    d = end - start
+    who = owner[seg_owner]
+    return np.stack(
+        [
+            np.bincount(who, weights=d[:, 0], minlength=size),
+            np.bincount(who, weights=d[:, 1], minlength=size),
+        ],
+        axis=1,
+    )
 
 
 def axial_mean(azimuth: ArrayLike, weights: ArrayLike | None = None) -> tuple[float, float, float]:

@@ -48,7 +48,9 @@ def true_to_grid(azimuth: ArrayLike, convergence: ArrayLike) -> NDArray[np.float
     >>> float(true_to_grid(90.0, 2.0))
     88.0
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) - np.asarray(convergence, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) - np.asarray(convergence, dtype=float)
+    )
 
 
 def grid_to_true(azimuth: ArrayLike, convergence: ArrayLike) -> NDArray[np.float64]:
@@ -59,4 +61,6 @@ def grid_to_true(azimuth: ArrayLike, convergence: ArrayLike) -> NDArray[np.float
     >>> float(grid_to_true(359.0, 2.0))
     1.0
     """
-    return normalize_azimuth(np.asarray(azimuth, dtype=float) + np.asarray(convergence, dtype=float))
+    return normalize_azimuth(
+        np.asarray(azimuth, dtype=float) + np.asarray(convergence, dtype=float)
+    )

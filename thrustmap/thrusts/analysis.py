@@ -274,11 +274,18 @@ def analyze_thrusts(
         field = np.where(problem == "hw_side_conflict", "hw_side", "hw_dip_direction")
         for fld in np.unique(field[bad]):
             rejected = pd.concat(
-                [rejected, _reject_more(accepted, bad & (field == fld), problem, fld, "thrust_traces")],
+                [
+                    rejected,
+                    _reject_more(accepted, bad & (field == fld), problem, fld, "thrust_traces"),
+                ],
                 ignore_index=True,
             )
         accepted, lines, side, basis, az_given = (
-            accepted[~bad].reset_index(drop=True), lines[~bad], side[~bad], basis[~bad], az_given[~bad]
+            accepted[~bad].reset_index(drop=True),
+            lines[~bad],
+            side[~bad],
+            basis[~bad],
+            az_given[~bad],
         )
 
     if att is not None and (side == 0).any():
@@ -308,17 +315,35 @@ def analyze_thrusts(
     if (side == 0).any():
         bad = side == 0
         rejected = pd.concat(
-            [rejected, _reject_more(accepted, bad, np.full(len(bad), "hw_side_unresolved"), "hw_side", "thrust_traces")],
+            [
+                rejected,
+                _reject_more(
+                    accepted,
+                    bad,
+                    np.full(len(bad), "hw_side_unresolved"),
+                    "hw_side",
+                    "thrust_traces",
+                ),
+            ],
             ignore_index=True,
         )
         accepted, lines, side, basis, az_given = (
-            accepted[~bad].reset_index(drop=True), lines[~bad], side[~bad], basis[~bad], az_given[~bad]
+            accepted[~bad].reset_index(drop=True),
+            lines[~bad],
+            side[~bad],
+            basis[~bad],
+            az_given[~bad],
         )
     ids = accepted["thrust_id"].to_numpy(dtype=object)
     index_of = {t: i for i, t in enumerate(ids)}
-    log.info("transport %.1f (grid) from %s; %d traces", transport.azimuth_grid, transport.source, len(ids))
+    log.info(
+        "transport %.1f (grid) from %s; %d traces",
+        transport.azimuth_grid,
+        transport.source,
+        len(ids),
+    )
 
-    rejected_ids = dict(zip(rejected["thrust_id"], rejected["reason"]))
+    rejected_ids = dict(zip(rejected["thrust_id"], rejected["reason"], strict=True))
     constraints, c_rejected = prepare_constraints(age_constraints, ids, rejected_ids)
     if len(c_rejected):
         rejected = pd.concat([rejected, c_rejected], ignore_index=True)
@@ -326,7 +351,9 @@ def analyze_thrusts(
     topo = build_topology(
         lines, side, snap_tolerance=snap_tolerance, branch_angle=branch_angle, area=area
     )
-    sheets = build_sheets(topo.pieces, topo.piece_trace, side, area, transport_grid=transport.azimuth_grid)
+    sheets = build_sheets(
+        topo.pieces, topo.piece_trace, side, area, transport_grid=transport.azimuth_grid
+    )
     segments, scan_no = cast_scanlines(area, transport.azimuth_grid, scanline_interval)
     inter = scanline_intersections(segments, topo.pieces, topo.piece_trace, transport.azimuth_grid)
     pairs = successive_pairs(inter)
@@ -401,7 +428,9 @@ def _trace_frame(
             "source_row": accepted["source_row"].to_numpy(dtype=np.int64),
         }
     )
-    rest = pd.DataFrame(accepted.drop(columns=[accepted.geometry.name, *lead.columns], errors="ignore"))
+    rest = pd.DataFrame(
+        accepted.drop(columns=[accepted.geometry.name, *lead.columns], errors="ignore")
+    )
     frame = pd.concat([lead, rest.reset_index(drop=True)], axis=1)
     return gpd.GeoDataFrame(frame, geometry=snapped, crs=crs)
 
@@ -451,14 +480,17 @@ def _node_frame(
 
 def _scanline_frame(pairs: pd.DataFrame, scan_no: np.ndarray, crs: pyproj.CRS) -> gpd.GeoDataFrame:
     ends = np.stack(
-        [pairs[["x0", "y0"]].to_numpy(dtype=float), pairs[["x1", "y1"]].to_numpy(dtype=float)], axis=1
+        [pairs[["x0", "y0"]].to_numpy(dtype=float), pairs[["x1", "y1"]].to_numpy(dtype=float)],
+        axis=1,
     )
     frame = pd.DataFrame(
         {
             "scanline": scan_no[pairs["segment"].to_numpy(dtype=np.intp)].astype(np.int64),
             "hinterland_thrust": pairs["hinterland_thrust"].to_numpy(dtype=object),
             "foreland_thrust": pairs["foreland_thrust"].to_numpy(dtype=object),
-            "pair": (pairs["hinterland_thrust"].astype(str) + "-" + pairs["foreland_thrust"].astype(str)).to_numpy(dtype=object),
+            "pair": (
+                pairs["hinterland_thrust"].astype(str) + "-" + pairs["foreland_thrust"].astype(str)
+            ).to_numpy(dtype=object),
             "length_m": pairs["length_m"].to_numpy(dtype=float),
         }
     )

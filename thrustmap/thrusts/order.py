@@ -104,8 +104,14 @@ def cross_cutting_relations(
     cross = kind == "crossing"
     cutter = np.concatenate([other[trunc], thrust[cross], other[cross]])
     cut = np.concatenate([thrust[trunc], other[cross], thrust[cross]])
-    links = np.unique(np.stack([cutter, cut], axis=1), axis=0) if len(cutter) else np.zeros((0, 2), np.intp)
-    degree = np.bincount(links[:, 0], minlength=len(ids)) if len(links) else np.zeros(len(ids), np.intp)
+    links = (
+        np.unique(np.stack([cutter, cut], axis=1), axis=0)
+        if len(cutter)
+        else np.zeros((0, 2), np.intp)
+    )
+    degree = (
+        np.bincount(links[:, 0], minlength=len(ids)) if len(links) else np.zeros(len(ids), np.intp)
+    )
     younger = np.full(len(nodes), -1, dtype=np.intp)
     younger[trunc] = other[trunc]
     da, db = degree[thrust[cross]], degree[other[cross]]
@@ -129,7 +135,9 @@ def cross_cutting_relations(
         )
     undecided = int(np.sum(cross & (younger < 0)))
     if undecided:
-        log.info("%d crossings between thrusts cutting equally many others: no age relation", undecided)
+        log.info(
+            "%d crossings between thrusts cutting equally many others: no age relation", undecided
+        )
     c_older = np.where(younger[c_idx] == thrust[c_idx], other[c_idx], thrust[c_idx])
     rel = pd.DataFrame(
         {
@@ -163,7 +171,8 @@ def constraint_relations(constraints: pd.DataFrame, index_of: dict[str, int]) ->
             "older": np.array([index_of[v] for v in constraints["older"]], dtype=np.intp),
             "evidence": "constraint",
             "detail": [
-                f"age constraint, row {r}" + (f": {t}" if t else "") for r, t in zip(rows, notes)
+                f"age constraint, row {r}" + (f": {t}" if t else "")
+                for r, t in zip(rows, notes, strict=True)
             ],
             "x": np.nan,
             "y": np.nan,
@@ -241,7 +250,9 @@ def foreland_signs(
     left = pairs.merge(mean_u.rename(columns={"thrust": "a", "u": "ua"}), on="a")
     both = left.merge(mean_u.rename(columns={"thrust": "b", "u": "ub"}), on=["segment", "b"])
     votes = np.zeros(len(a))
-    np.add.at(votes, both["pair"].to_numpy(), np.sign(both["ub"].to_numpy() - both["ua"].to_numpy()))
+    np.add.at(
+        votes, both["pair"].to_numpy(), np.sign(both["ub"].to_numpy() - both["ua"].to_numpy())
+    )
     shared = np.zeros(len(a), dtype=bool)
     shared[both["pair"].to_numpy()] = True
     return np.where(shared, np.sign(votes), fallback).astype(np.int8)
@@ -275,14 +286,18 @@ class Order:
     contradictions: pd.DataFrame
 
 
-def _csr(src: NDArray[np.intp], dst: NDArray[np.intp], n: int) -> tuple[NDArray[np.intp], NDArray[np.intp]]:
+def _csr(
+    src: NDArray[np.intp], dst: NDArray[np.intp], n: int
+) -> tuple[NDArray[np.intp], NDArray[np.intp]]:
     """Edges sorted by source: (pointer per node, edge order)."""
     order = np.argsort(src, kind="stable")
     ptr = np.searchsorted(src[order], np.arange(n + 1))
     return ptr, order
 
 
-def _closure(src: NDArray[np.intp], dst: NDArray[np.intp], n: int) -> tuple[NDArray[np.uint8], NDArray[np.intp]]:
+def _closure(
+    src: NDArray[np.intp], dst: NDArray[np.intp], n: int
+) -> tuple[NDArray[np.uint8], NDArray[np.intp]]:
     """Reachability bitsets of a DAG restricted to the nodes that have edges.
 
     Returns the packed bit matrix over the dense node numbering and the map
@@ -314,7 +329,9 @@ def _closure(src: NDArray[np.intp], dst: NDArray[np.intp], n: int) -> tuple[NDAr
     return reach, dense
 
 
-def _reaches(reach: NDArray[np.uint8], dense: NDArray[np.intp], a: NDArray[np.intp], b: NDArray[np.intp]) -> NDArray[np.bool_]:
+def _reaches(
+    reach: NDArray[np.uint8], dense: NDArray[np.intp], a: NDArray[np.intp], b: NDArray[np.intp]
+) -> NDArray[np.bool_]:
     da, db = dense[a], dense[b]
     ok = (da >= 0) & (db >= 0)
     out = np.zeros(len(a), dtype=bool)
@@ -328,7 +345,7 @@ def _cycle(members: NDArray[np.intp], src: NDArray[np.intp], dst: NDArray[np.int
     """One directed cycle through the first member, within a strongly connected set."""
     inside = np.isin(src, members) & np.isin(dst, members)
     adj: dict[int, list[int]] = {}
-    for s, d in zip(src[inside].tolist(), dst[inside].tolist()):
+    for s, d in zip(src[inside].tolist(), dst[inside].tolist(), strict=True):
         adj.setdefault(s, []).append(d)
     start = int(members[0])
     parent = {start: -1}
@@ -402,7 +419,11 @@ def formation_order(
 
     cs, cd = comp[ro], comp[ry]
     between = cs != cd
-    edges = np.unique(np.stack([cs[between], cd[between]], axis=1), axis=0) if between.any() else np.zeros((0, 2), np.intp)
+    edges = (
+        np.unique(np.stack([cs[between], cd[between]], axis=1), axis=0)
+        if between.any()
+        else np.zeros((0, 2), np.intp)
+    )
     es, ed = edges[:, 0], edges[:, 1]
 
     cand = candidates.reset_index(drop=True)
@@ -453,7 +474,9 @@ def formation_order(
         columns=RELATION_COLUMNS,
     )
     qi = np.flatnonzero(silent)
-    q_status = np.where(q_overridden[q_of_cand] if len(qi) else np.zeros(0, bool), "overridden", "used")
+    q_status = np.where(
+        q_overridden[q_of_cand] if len(qi) else np.zeros(0, bool), "overridden", "used"
+    )
     n_for = cand["n_for"].to_numpy()[qi]
     n_tot = n_for + cand["n_against"].to_numpy()[qi]
     default = pd.DataFrame(
@@ -469,7 +492,7 @@ def formation_order(
                 f"{ids[y]} follows {ids[o]} toward the foreland on {a} of {t} scanline segments "
                 "and no cross-cutting or constraint relates them: in-sequence default"
                 + ("; overridden to keep the other relations" if s == "overridden" else "")
-                for y, o, a, t, s in zip(qy[qi], qo[qi], n_for, n_tot, q_status)
+                for y, o, a, t, s in zip(qy[qi], qo[qi], n_for, n_tot, q_status, strict=True)
             ],
             "x": np.nan,
             "y": np.nan,
@@ -521,20 +544,23 @@ def _kahn(
     most hinterland node free of strong edges goes next and its remaining
     default in-edges are marked overridden.
     """
-    s_ptr, s_ord = _csr(ss, sd, n)
-    q_ptr, q_ord = _csr(qs, qd, n)
-    qin_ptr, qin_ord = _csr(qd, qs, n)
-    indeg_s = np.bincount(sd, minlength=n)
-    indeg_q = np.bincount(qd, minlength=n)
-    alive = np.ones(len(qs), dtype=bool)
-    overridden = np.zeros(len(qs), dtype=bool)
-    placed = np.zeros(n, dtype=bool)
-    queued = np.zeros(n, dtype=bool)
-    ready = [(priority[v], v) for v in np.flatnonzero((indeg_s == 0) & (indeg_q == 0))]
-    blocked = [(priority[v], v) for v in np.flatnonzero((indeg_s == 0) & (indeg_q > 0))]
+    s_ptr, s_ord = (a.tolist() for a in _csr(ss, sd, n))
+    q_ptr, q_ord = (a.tolist() for a in _csr(qs, qd, n))
+    qin_ptr, qin_ord = (a.tolist() for a in _csr(qd, qs, n))
+    sd_l, qd_l, qs_l = sd.tolist(), qd.tolist(), qs.tolist()
+    prio = np.asarray(priority, dtype=float).tolist()
+    indeg_s = np.bincount(sd, minlength=n).tolist()
+    indeg_q = np.bincount(qd, minlength=n).tolist()
+    alive = [True] * len(qs_l)
+    overridden = np.zeros(len(qs_l), dtype=bool)
+    placed = [False] * n
+    queued = [False] * n
+    ready = [(prio[v], v) for v in range(n) if indeg_s[v] == 0 and indeg_q[v] == 0]
+    blocked = [(prio[v], v) for v in range(n) if indeg_s[v] == 0 and indeg_q[v] > 0]
     heapq.heapify(ready)
     heapq.heapify(blocked)
-    queued[[v for _, v in ready]] = True
+    for _, v in ready:
+        queued[v] = True
     out: list[int] = []
     while len(out) < n:
         if not ready:
@@ -542,33 +568,33 @@ def _kahn(
                 _, v = heapq.heappop(blocked)
                 if not queued[v]:
                     break
-            incoming = qin_ord[qin_ptr[v] : qin_ptr[v + 1]]
-            cut = incoming[alive[incoming] & ~placed[qs[incoming]]]
-            alive[cut] = False
-            overridden[cut] = True
+            for e in qin_ord[qin_ptr[v] : qin_ptr[v + 1]]:
+                if alive[e] and not placed[qs_l[e]]:
+                    alive[e] = False
+                    overridden[e] = True
             indeg_q[v] = 0
             queued[v] = True
-            heapq.heappush(ready, (priority[v], v))
+            heapq.heappush(ready, (prio[v], v))
         _, v = heapq.heappop(ready)
         placed[v] = True
-        out.append(int(v))
+        out.append(v)
         for e in s_ord[s_ptr[v] : s_ptr[v + 1]]:
-            w = sd[e]
+            w = sd_l[e]
             indeg_s[w] -= 1
             if indeg_s[w] == 0:
                 if indeg_q[w] == 0:
                     queued[w] = True
-                    heapq.heappush(ready, (priority[w], w))
+                    heapq.heappush(ready, (prio[w], w))
                 else:
-                    heapq.heappush(blocked, (priority[w], w))
+                    heapq.heappush(blocked, (prio[w], w))
         for e in q_ord[q_ptr[v] : q_ptr[v + 1]]:
             if not alive[e]:
                 continue
-            w = qd[e]
+            w = qd_l[e]
             indeg_q[w] -= 1
             if indeg_q[w] == 0 and indeg_s[w] == 0 and not queued[w]:
                 queued[w] = True
-                heapq.heappush(ready, (priority[w], w))
+                heapq.heappush(ready, (prio[w], w))
     return out, overridden
 
 
@@ -584,7 +610,11 @@ def _sequence(
     intersections: pd.DataFrame | None,
 ) -> tuple[NDArray[np.object_], NDArray[np.object_]]:
     """``out`` for a thrust ranked younger than a related thrust lying foreland of it."""
-    inter = intersections if intersections is not None else pd.DataFrame(columns=["segment", "thrust", "u"])
+    inter = (
+        intersections
+        if intersections is not None
+        else pd.DataFrame(columns=["segment", "thrust", "u"])
+    )
     sign_strong = foreland_signs(ro, ry, inter, pos)
     a = np.concatenate([ro, qo])
     b = np.concatenate([ry, qy])

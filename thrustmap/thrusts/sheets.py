@@ -72,7 +72,9 @@ def build_sheets(
     pieces = np.asarray(pieces, dtype=object)
     piece_trace = np.asarray(piece_trace, dtype=np.intp)
     sides = np.asarray(sides, dtype=float)
-    clipped = shapely.intersection(pieces, area)
+    inside = shapely.covered_by(pieces, area)
+    clipped = pieces.copy()
+    clipped[~inside] = shapely.intersection(pieces[~inside], area)
     parts, owner = explode(clipped)
     line = (shapely.get_type_id(parts) == 1) & (shapely.length(parts) > 0)
     parts, part_trace = parts[line], piece_trace[owner[line]]
@@ -126,7 +128,9 @@ def build_sheets(
     return out.reset_index(drop=True)
 
 
-def _frame(polys: NDArray[np.object_], t: NDArray[np.float64], across: NDArray[np.float64]) -> pd.DataFrame:
+def _frame(
+    polys: NDArray[np.object_], t: NDArray[np.float64], across: NDArray[np.float64]
+) -> pd.DataFrame:
     coords, index = shapely.get_coordinates(polys, return_index=True)
     v = coords @ across
     lo = np.full(len(polys), np.inf)

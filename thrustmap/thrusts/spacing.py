@@ -15,7 +15,7 @@ import shapely
 from numpy.typing import ArrayLike, NDArray
 
 from thrustmap.errors import ParameterError
-from thrustmap.thrusts._geometry import explode, left_normals, unit_vectors
+from thrustmap.thrusts._geometry import explode, left_normals, segments, unit_vectors
 
 __all__ = [
     "MAX_SCANLINES",
@@ -104,14 +104,20 @@ def cast_scanlines(
 
 
 def scanline_intersections(
-    segments: ArrayLike, pieces: ArrayLike, piece_trace: ArrayLike, azimuth_grid: float
+    scan_segments: ArrayLike, pieces: ArrayLike, piece_trace: ArrayLike, azimuth_grid: float
 ) -> pd.DataFrame:
     """Intersections of scanline segments with trace pieces, ordered along each segment.
+
+    The scanline segments must be straight and parallel to ``azimuth_grid``
+    (as :func:`cast_scanlines` makes them). Every straight segment of every
+    piece is intersected with the scanline levels its across-transport range
+    spans (half-open, so a vertex lying on a scanline counts once), in one
+    vectorised pass.
 
     Returns
     -------
     DataFrame
-        ``segment`` (index into ``segments``), ``thrust`` (trace index), ``u``
+        ``segment`` (index into ``scan_segments``), ``thrust`` (trace index), ``u``
         (metres along the transport direction), ``x``, ``y``; sorted by segment
         then ``u`` (hinterland first).
 
@@ -123,18 +129,65 @@ def scanline_intersections(
     >>> scanline_intersections(seg, pcs, [0, 1], 90.0)[["thrust", "u"]].values.tolist()
     [[1.0, 20.0], [0.0, 70.0]]
     """
-    segments = np.asarray(segments, dtype=object)
+    scan_segments = np.asarray(scan_segments, dtype=object)
     pieces = np.asarray(pieces, dtype=object)
     piece_trace = np.asarray(piece_trace, dtype=np.intp)
-    s, p = shapely.STRtree(pieces).query(segments, predicate="intersects")
-    coords, k = shapely.get_coordinates(
-        shapely.intersection(segments[s], pieces[p]), return_index=True
+    t = unit_vectors(azimuth_grid)
+    across = left_normals(t)
+    empty = pd.DataFrame(
+        {
+            "segment": np.zeros(0, np.intp),
+            "thrust": np.zeros(0, np.intp),
+            "u": np.zeros(0),
+            "x": np.zeros(0),
+            "y": np.zeros(0),
+        }
     )
-    u = coords @ unit_vectors(azimuth_grid)
+    if len(scan_segments) == 0 or len(pieces) == 0:
+        return empty
+    s0 = shapely.get_coordinates(shapely.get_point(scan_segments, 0))
+    s1 = shapely.get_coordinates(shapely.get_point(scan_segments, -1))
+    levels, level_of = np.unique(np.round(s0 @ across, 6), return_inverse=True)
+    level_of = np.asarray(level_of).reshape(-1)
+    su0 = np.minimum(s0 @ t, s1 @ t)
+    su1 = np.maximum(s0 @ t, s1 @ t)
+    u_min = float(su0.min())
+    span = float(su1.max() - u_min) + 1.0
+    key0 = level_of + 0.5 * (su0 - u_min) / span
+    seg_order = np.argsort(key0, kind="stable")
+    key0 = key0[seg_order]
+
+    a, b, owner = segments(pieces)
+    va, vb = a @ across, b @ across
+    lo = np.searchsorted(levels, np.minimum(va, vb), side="left")
+    hi = np.searchsorted(levels, np.maximum(va, vb), side="left")
+    count = np.maximum(hi - lo, 0)
+    rep = np.repeat(np.arange(len(a)), count)
+    if len(rep) == 0:
+        return empty
+    first = np.concatenate([[0], np.cumsum(count)[:-1]])
+    level = lo[rep] + (np.arange(len(rep)) - first[rep])
+    f = (levels[level] - va[rep]) / (vb[rep] - va[rep])
+    xy = a[rep] + f[:, None] * (b[rep] - a[rep])
+    u = xy @ t
+    key = level + 0.5 * (u - u_min) / span
+    pos = np.searchsorted(key0, key, side="right") - 1
+    cand = seg_order[np.maximum(pos, 0)]
+    inside = (
+        (pos >= 0) & (level_of[cand] == level) & (u <= su1[cand] + 1e-9) & (u >= su0[cand] - 1e-9)
+    )
     frame = pd.DataFrame(
-        {"segment": s[k], "thrust": piece_trace[p[k]], "u": u, "x": coords[:, 0], "y": coords[:, 1]}
+        {
+            "segment": cand[inside],
+            "thrust": piece_trace[owner[rep[inside]]],
+            "u": u[inside],
+            "x": xy[inside, 0],
+            "y": xy[inside, 1],
+        }
     )
-    order = np.lexsort((frame["thrust"].to_numpy(), u, frame["segment"].to_numpy()))
+    order = np.lexsort(
+        (frame["thrust"].to_numpy(), frame["u"].to_numpy(), frame["segment"].to_numpy())
+    )
     return frame.iloc[order].reset_index(drop=True)
 
 
@@ -186,11 +239,18 @@ def _bootstrap_means(
 ) -> NDArray[np.float64]:
     """(n_boot, groups) bootstrap means of contiguous groups, drawn in bounded chunks."""
     group = np.repeat(np.arange(len(size)), size)
+    base = start[group].astype(np.int32)
+    top = (size[group] - 1).astype(np.int32)
+    scale = size[group].astype(np.float32)
     out = np.empty((n_boot, len(size)))
     chunk = max(1, int(4_000_000 // max(len(values), 1)))
     for b0 in range(0, n_boot, chunk):
         b = min(chunk, n_boot - b0)
-        draw = start[group] + (rng.random((b, len(values))) * size[group]).astype(np.intp)
+        r = rng.random((b, len(values)), dtype=np.float32)
+        r *= scale
+        draw = r.astype(np.int32)
+        np.minimum(draw, top, out=draw)
+        draw += base
         out[b0 : b0 + b] = np.add.reduceat(values[draw], start, axis=1) / size
     return out
 
@@ -220,8 +280,11 @@ def spacing_statistics(
     -------
     DataFrame
         ``SPACING_COLUMNS``: one row per pair (``pair`` = ``"H-F"``) then one
-        with ``pair`` = ``"all"``. ``std_m`` uses n - 1; ``cv`` = std/mean;
-        the interval is NaN for fewer than two distances.
+        with ``pair`` = ``"all"``. ``std_m`` uses n - 1; ``cv`` = std/mean.
+        Confidence intervals are bootstrap percentile intervals of the mean;
+        the overall one resamples within each pair (stratified by pair), so
+        the share of each pair stays as measured. The interval is NaN for
+        fewer than two distances.
 
     Raises
     ------
@@ -267,17 +330,18 @@ def spacing_statistics(
     size = table["n"].to_numpy(dtype=np.intp)
     start = np.concatenate([[0], np.cumsum(size)[:-1]]).astype(np.intp)
     ci = np.full((len(table), 2), np.nan)
+    all_ci = np.full(2, np.nan)
     if len(values):
-        means = _bootstrap_means(values, start, size, rng, n_boot)
-        ci = np.quantile(means, q, axis=0).T
+        means = np.ascontiguousarray(_bootstrap_means(values, start, size, rng, n_boot).T)
+        ci = np.quantile(means, q, axis=1).T
         ci[size < 2] = np.nan
-        whole = _bootstrap_means(values, np.zeros(1, np.intp), np.array([len(values)]), rng, n_boot)
-        all_ci = np.quantile(whole[:, 0], q) if len(values) > 1 else [np.nan, np.nan]
-    else:
-        all_ci = [np.nan, np.nan]
+        if len(values) > 1:
+            all_ci = np.quantile(size @ means / size.sum(), q)
     table["ci_low_m"], table["ci_high_m"] = ci[:, 0], ci[:, 1]
     overall["ci_low_m"], overall["ci_high_m"] = all_ci[0], all_ci[1]
-    table["pair"] = table["hinterland_thrust"].astype(str) + "-" + table["foreland_thrust"].astype(str)
+    table["pair"] = (
+        table["hinterland_thrust"].astype(str) + "-" + table["foreland_thrust"].astype(str)
+    )
     overall["pair"] = "all"
     out = pd.concat([table, overall], ignore_index=True)
     out["n"] = out["n"].astype("int64")

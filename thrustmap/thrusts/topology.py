@@ -123,7 +123,9 @@ def build_topology(
     end_piece = np.repeat(np.arange(n_p), 2)
     which = np.tile([0, 1], n_p)
     end_pt = np.where(
-        which == 0, shapely.get_point(pieces[end_piece], 0), shapely.get_point(pieces[end_piece], -1)
+        which == 0,
+        shapely.get_point(pieces[end_piece], 0),
+        shapely.get_point(pieces[end_piece], -1),
     )
     end_xy = shapely.get_coordinates(end_pt)
     start_out, end_out = end_directions(pieces)
@@ -223,9 +225,7 @@ def _crossings(
     inter = shapely.intersection(pieces[a], pieces[b])
     pts, k = shapely.get_coordinates(inter, return_index=True)
     a, b = a[k], b[k]
-    ends4 = np.stack(
-        [end_xy[2 * a], end_xy[2 * a + 1], end_xy[2 * b], end_xy[2 * b + 1]], axis=1
-    )
+    ends4 = np.stack([end_xy[2 * a], end_xy[2 * a + 1], end_xy[2 * b], end_xy[2 * b + 1]], axis=1)
     dist = np.min(np.hypot(*(ends4 - pts[:, None, :]).transpose(2, 0, 1)), axis=1)
     ok = dist > near
     a, b, pts = a[ok], b[ok], pts[ok]

@@ -81,7 +81,9 @@ class TransportDirection:
         return asdict(self)
 
 
-def fisher_mean(vectors: ArrayLike, *, p: float = 0.05) -> tuple[NDArray[np.float64], float, float, float]:
+def fisher_mean(
+    vectors: ArrayLike, *, p: float = 0.05
+) -> tuple[NDArray[np.float64], float, float, float]:
     """Fisher (1953) mean of unit vectors with the precision and confidence cone.
 
     Parameters

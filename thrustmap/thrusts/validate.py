@@ -58,8 +58,17 @@ CONSTRAINT_REASONS = {
 REJECT_COLUMNS = ["layer", "source_row", "thrust_id", "reason", "field", "value", "message"]
 
 _TYPE_NAMES = np.array(
-    [None, "Point", "LineString", "LinearRing", "Polygon", "MultiPoint", "MultiLineString",
-     "MultiPolygon", "GeometryCollection"],
+    [
+        None,
+        "Point",
+        "LineString",
+        "LinearRing",
+        "Polygon",
+        "MultiPoint",
+        "MultiLineString",
+        "MultiPolygon",
+        "GeometryCollection",
+    ],
     dtype=object,
 )
 
@@ -251,12 +260,12 @@ def prepare_traces(
     flag(missing, "missing_geometry", "geometry")
     type_id = shapely.get_type_id(geoms)
     flag(~np.isin(type_id, (1, 5)), "not_a_line", "geometry", _TYPE_NAMES[type_id + 1])
-    valid = shapely.is_valid(geoms)
+    length = np.where(reason == "", shapely.length(geoms), np.nan)
+    flag(length == 0.0, "zero_length", "geometry", length)
+    valid = np.where(reason == "", shapely.is_valid(geoms), True)
     flag(~valid, "invalid_geometry", "geometry", shapely.is_valid_reason(geoms))
     good = reason == ""
     geoms[good] = _orient_parts(geoms[good])
-    length = np.where(good, shapely.length(geoms), 0.0)
-    flag(length <= 0.0, "zero_length", "geometry", length)
     flag(~np.where(reason == "", shapely.is_simple(geoms), True), "self_intersection", "geometry")
 
     ids = _text(original["thrust_id"])
@@ -278,7 +287,9 @@ def prepare_traces(
     bad_side = side_norm.notna() & ~side_norm.isin(["left", "right"])
     flag(bad_side.to_numpy(), "bad_hw_side", "hw_side", side_raw)
 
-    az_raw = original["hw_dip_direction"] if "hw_dip_direction" in original else pd.Series([None] * n)
+    az_raw = (
+        original["hw_dip_direction"] if "hw_dip_direction" in original else pd.Series([None] * n)
+    )
     az, az_unreadable = _numbers(az_raw)
     flag(az_unreadable | (az < 0) | (az > 360), "bad_hw_dip_direction", "hw_dip_direction", az_raw)
     dip_raw = original["dip"] if "dip" in original else pd.Series([None] * n)
@@ -317,7 +328,10 @@ def prepare_traces(
         counts = pd.Series([r["reason"] for r in records]).value_counts()
         log.warning(
             "layer %s: %d of %d traces rejected (%s)",
-            layer, len(records), n, ", ".join(f"{k}: {v}" for k, v in counts.items()),
+            layer,
+            len(records),
+            n,
+            ", ".join(f"{k}: {v}" for k, v in counts.items()),
         )
     return accepted, rejects_frame(records, original), crs
 
@@ -421,7 +435,9 @@ def prepare_attitudes(
     missing = [c for c in _ATTITUDE_COLUMNS if c not in attitudes.columns]
     if missing:
         raise InputError(
-            "missing column(s) " + ", ".join(missing) + "; expected the attitude table columns "
+            "missing column(s) "
+            + ", ".join(missing)
+            + "; expected the attitude table columns "
             + ", ".join(_ATTITUDE_COLUMNS),
             layer=layer,
         )
@@ -477,7 +493,8 @@ def prepare_constraints(
     for c in ("younger", "older"):
         if c not in table.columns:
             raise InputError(
-                f"the table has no {c!r} column; columns are: " + ", ".join(map(str, table.columns)),
+                f"the table has no {c!r} column; columns are: "
+                + ", ".join(map(str, table.columns)),
                 layer=layer,
                 field=c,
             )
