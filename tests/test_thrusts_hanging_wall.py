@@ -52,6 +52,12 @@ def test_left_right_and_azimuth_give_the_same_result():
     assert a.transport.azimuth_grid == pytest.approx(b.transport.azimuth_grid)
     # the resolved hanging-wall dip direction points west (grid) on every trace: common practice
     assert np.allclose(a.traces["hw_dip_direction_grid"].iloc[:3], 270.0)
+    # a given azimuth is kept, and its grid copy is true - convergence (pyproj get_factors)
+    for row in b.traces.itertuples():
+        c = row.geometry.centroid
+        gamma = _convergence(c.x - X0, c.y - Y0)
+        assert row.hw_dip_direction == pytest.approx(265.0 + gamma, abs=0.05)
+        assert row.hw_dip_direction_grid == pytest.approx(row.hw_dip_direction - gamma, abs=1e-6)
 
 
 def test_conflicting_forms_are_rejected():

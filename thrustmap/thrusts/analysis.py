@@ -80,11 +80,13 @@ class ThrustAnalysis:
         and ``hw_dip_direction_grid``, ``dip``, ``rank`` (1 = oldest),
         ``sequence`` (``in``/``out``), ``sequence_detail``, ``contradiction``
         (id of a cycle the thrust is in, else ""), ``position_m`` (centroid
-        along transport), ``length_m``, ``source_row`` and the other input columns.
+        along transport, metres from the hinterland edge of the study area),
+        ``length_m``, ``source_row`` and the other input columns.
     sheets : GeoDataFrame
         ``sheet_id`` (S1 = most hinterland), ``floor_thrust``, ``roof_thrust``,
         ``floor_thrusts``, ``roof_thrusts`` (comma-separated, longest contact
-        first), ``area_m2``, ``mean_width_m`` (along transport), ``position_m``.
+        first), ``area_m2``, ``mean_width_m`` (along transport),
+        ``position_m`` (as for traces).
     nodes : GeoDataFrame
         Points: ``node_id``, ``kind`` (free_tip, branch, truncation,
         boundary, crossing), ``thrust_id``, ``end``, ``part``,
@@ -364,16 +366,19 @@ def analyze_thrusts(
     cut_rel, node_younger = cross_cutting_relations(topo.nodes, ids)
     strong = pd.concat([constraint_relations(constraints, index_of), cut_rel], ignore_index=True)
     t = unit_vectors(transport.azimuth_grid)
-    snapped = _assemble(topo.pieces, topo.piece_trace, len(ids))
-    position = shapely.get_coordinates(shapely.centroid(snapped)) @ t
+    snapped = _assemble(topo.pieces, topo.piece_trace)
+    origin = float(np.min(shapely.get_coordinates(area) @ t))
+    position = shapely.get_coordinates(shapely.centroid(snapped)) @ t - origin
+    sheets["position_m"] = sheets["position_m"] - origin
     order = formation_order(
         ids, position, strong, in_sequence_candidates(pairs), intersections=inter
     )
 
-    hw_grid = hw_dip_directions(lines, side)
     mid = shapely.get_coordinates(shapely.centroid(lines))
     conv = grid_convergence(mid[:, 0], mid[:, 1], crs)
-    hw_true = np.where(basis == "hw_dip_direction", az_given, grid_to_true(hw_grid, conv))
+    as_given = basis == "hw_dip_direction"
+    hw_grid = np.where(as_given, true_to_grid(az_given, conv), hw_dip_directions(lines, side))
+    hw_true = np.where(as_given, az_given, grid_to_true(hw_grid, conv))
     out_traces = _trace_frame(
         accepted, snapped, side, basis, hw_true, hw_grid, order, position, crs
     )
@@ -391,7 +396,8 @@ def analyze_thrusts(
     )
 
 
-def _assemble(pieces: np.ndarray, piece_trace: np.ndarray, n: int) -> np.ndarray:
+def _assemble(pieces: np.ndarray, piece_trace: np.ndarray) -> np.ndarray:
+    """One (Multi)LineString per trace from its snapped pieces."""
     multi = shapely.multilinestrings(pieces, indices=piece_trace)
     single = shapely.get_num_geometries(multi) == 1
     return np.where(single, shapely.get_geometry(multi, 0), multi)

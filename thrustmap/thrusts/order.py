@@ -453,8 +453,9 @@ def formation_order(
     # contradictions, labelled in rank order
     cyc = np.flatnonzero(cyclic)
     cyc = cyc[np.argsort(comp_rank[cyc])]
-    label_of = {int(c): f"C{i + 1}" for i, c in enumerate(cyc)}
-    contradiction = np.array([label_of.get(int(c), "") for c in comp], dtype=object)
+    comp_label = np.full(n_comp, "", dtype=object)
+    comp_label[cyc] = [f"C{i + 1}" for i in range(len(cyc))]
+    contradiction = comp_label[comp]
 
     rel_ids = [f"R{i + 1}" for i in range(len(rel))]
     in_cycle = cyclic[cs] & (cs == cd)
@@ -507,7 +508,7 @@ def formation_order(
         members = members[np.argsort(pos[members], kind="stable")]
         path = _cycle(members, ro, ry)
         inside = np.flatnonzero((cs == c) & (cd == c))
-        label = label_of[int(c)]
+        label = comp_label[c]
         chain = " -> ".join(ids[path])
         contradictions.append(
             {
