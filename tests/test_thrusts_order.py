@@ -13,11 +13,9 @@ import numpy as np
 import pandas as pd
 import pytest
 
-from tests.thrust_networks import area, box, line, parallel_set, traces
+from tests.thrust_networks import analyze_east, area, box, line, parallel_set, traces
 from thrustmap.thrusts import analyze_thrusts
 from thrustmap.thrusts.order import formation_order
-
-KW = dict(transport_azimuth=90.0, azimuth_ref="grid", scanline_interval=500.0)
 
 
 def _oos_network():
@@ -34,9 +32,7 @@ def _oos_network():
 
 
 def test_in_sequence_set_ranks_toward_the_foreland():
-    result = analyze_thrusts(
-        parallel_set(4, reverse=(2,)), study_area=area(box(-500, 0, 3500, 10000)), **KW
-    )
+    result = analyze_east(parallel_set(4, reverse=(2,)), (-500, 0, 3500, 10000))
     assert result.order == ["T1", "T2", "T3", "T4"]
     assert result.traces["sequence"].eq("in").all()
     assert set(result.relations["evidence"]) == {"in_sequence"}
@@ -55,7 +51,7 @@ def test_reversed_vergence_reverses_the_order():
 
 
 def test_out_of_sequence_thrust_flagged_from_truncation():
-    result = analyze_thrusts(_oos_network(), study_area=area(box(-500, 0, 3500, 10000)), **KW)
+    result = analyze_east(_oos_network(), (-500, 0, 3500, 10000))
     assert result.order == ["T1", "T2", "T3", "X", "T4"]
     tr = result.traces.set_index("thrust_id")
     assert tr["sequence"].to_dict() == {"T1": "in", "T2": "in", "T3": "in", "X": "out", "T4": "in"}
@@ -72,9 +68,7 @@ def test_out_of_sequence_thrust_flagged_from_a_constraint():
     gdf = parallel_set(4)
     gdf.loc[len(gdf)] = ["X", "thrust X", "left", np.nan, 30.0, line((1500, 0), (1500, 10000))]
     constraints = pd.DataFrame({"younger": ["X"], "older": ["T4"], "note": ["growth strata"]})
-    result = analyze_thrusts(
-        gdf, study_area=area(box(-500, 0, 3500, 10000)), age_constraints=constraints, **KW
-    )
+    result = analyze_east(gdf, (-500, 0, 3500, 10000), age_constraints=constraints)
     assert result.order == ["T1", "T2", "T3", "T4", "X"]
     tr = result.traces.set_index("thrust_id")
     assert tr.loc["X", "sequence"] == "out" and (tr.drop("X")["sequence"] == "in").all()
@@ -88,12 +82,7 @@ def test_cycle_of_constraints_is_reported_not_broken():
     constraints = pd.DataFrame(
         {"younger": ["T2", "T3", "T1"], "older": ["T1", "T2", "T3"], "note": ["a", "b", "c"]}
     )
-    result = analyze_thrusts(
-        parallel_set(4),
-        study_area=area(box(-500, 0, 3500, 10000)),
-        age_constraints=constraints,
-        **KW,
-    )
+    result = analyze_east(parallel_set(4), (-500, 0, 3500, 10000), age_constraints=constraints)
     assert len(result.contradictions) == 1
     c = result.contradictions.iloc[0]
     assert c["thrusts"] == "T1,T2,T3"
@@ -111,12 +100,7 @@ def test_cycle_of_constraints_is_reported_not_broken():
 def test_constraint_against_position_overrides_the_default():
     # T1 said to be younger than T3: the in-sequence default yields where it must
     constraints = pd.DataFrame({"younger": ["T1"], "older": ["T3"], "note": [""]})
-    result = analyze_thrusts(
-        parallel_set(3),
-        study_area=area(box(-500, 0, 2500, 10000)),
-        age_constraints=constraints,
-        **KW,
-    )
+    result = analyze_east(parallel_set(3), (-500, 0, 2500, 10000), age_constraints=constraints)
     assert result.order == ["T2", "T3", "T1"]
     tr = result.traces.set_index("thrust_id")
     assert tr.loc["T1", "sequence"] == "out"

@@ -7,17 +7,13 @@ roof thrust (Boyer and Elliott 1982, Thrust systems, AAPG Bulletin 66,
 
 import pytest
 
-from tests.thrust_networks import area, box, line, parallel_set, traces
+from tests.thrust_networks import analyze_east, box, line, parallel_set, traces
 from thrustmap.thrusts import analyze_thrusts
 
 
 def test_parallel_sheets_floor_roof_area_width():
-    result = analyze_thrusts(
-        parallel_set(3, reverse=(1,)),
-        study_area=area(box(-1000, 0, 3000, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=1000.0,
+    result = analyze_east(
+        parallel_set(3, reverse=(1,)), (-1000, 0, 3000, 10000), scanline_interval=1000.0
     )
     s = result.sheets
     assert s["sheet_id"].tolist() == ["S1", "S2", "S3", "S4"]  # hinterland (west) first
@@ -36,13 +32,7 @@ def test_parallel_sheets_floor_roof_area_width():
 def test_trace_crossing_the_study_area_boundary_twice():
     # enters through the south edge, bends, leaves through the east edge
     rows = [("A", line((500, -1000), (500, 4000), (3000, 4000)), "left", None)]
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(0, 0, 2000, 6000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(traces(rows), (0, 0, 2000, 6000))
     assert set(result.nodes["kind"]) == {"boundary"}  # both ends lie outside the area
     s = result.sheets.set_index("roof_thrust")
     # hanging wall on the left of travel: west of the north leg, then north of the east leg

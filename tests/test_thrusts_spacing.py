@@ -15,19 +15,15 @@ import shapely
 from scipy import stats
 from shapely import LineString
 
-from tests.thrust_networks import area, box, line, parallel_set, traces
+from tests.thrust_networks import analyze_east, area, box, line, parallel_set, traces
 from thrustmap.errors import ParameterError
 from thrustmap.thrusts import analyze_thrusts
 from thrustmap.thrusts.spacing import cast_scanlines, spacing_statistics
 
 
 def test_regular_set_exact():
-    result = analyze_thrusts(
-        parallel_set(5, spacing=1250.0),
-        study_area=area(box(-500, 0, 5500, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=1000.0,
+    result = analyze_east(
+        parallel_set(5, spacing=1250.0), (-500, 0, 5500, 10000), scanline_interval=1000.0
     )
     sp = result.spacing.set_index("pair")
     assert sp.index.tolist() == ["T1-T2", "T2-T3", "T3-T4", "T4-T5", "all"]
@@ -61,13 +57,7 @@ def test_irregular_set_within_five_percent_of_the_construction():
         rows.append(
             (f"T{k + 1}", line(*zip(xs, np.linspace(0, 20000, 21), strict=True)), "left", None)
         )
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(-400, 0, 4400, 20000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=200.0,
-    )
+    result = analyze_east(traces(rows), (-400, 0, 4400, 20000), scanline_interval=200.0)
     assert result.spacing.set_index("pair").loc["all", "mean_m"] == pytest.approx(800.0, rel=0.05)
 
 

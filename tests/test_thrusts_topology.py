@@ -9,9 +9,8 @@ thrustmap.thrusts.topology.
 import numpy as np
 import pytest
 
-from tests.thrust_networks import X0, Y0, area, box, line, traces
+from tests.thrust_networks import X0, Y0, analyze_east, line, traces
 from thrustmap.errors import ParameterError
-from thrustmap.thrusts import analyze_thrusts
 from thrustmap.thrusts.topology import build_topology
 
 
@@ -36,23 +35,15 @@ def _network():
 
 
 def test_each_end_kind():
-    result = analyze_thrusts(
-        _network(),
-        study_area=area(box(-5000, -2000, 5000, 12000)),
-        snap_tolerance=10.0,
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(_network(), (-5000, -2000, 5000, 12000), snap_tolerance=10.0)
     nodes = _nodes(result)
     assert ("S", "start", "branch", "M") in nodes
     assert ("K", "end", "truncation", "M") in nodes
     assert ("F", "start", "free_tip", "") in nodes and ("F", "end", "free_tip", "") in nodes
     assert ("M", "start", "free_tip", "") in nodes
     n = result.nodes.set_index(["thrust_id", "end"])
-    assert n.loc[("K", "end"), "angle"] == pytest.approx(
-        90.0
-    )  # abuts at right angles (construction)
+    # K abuts M at right angles and S leaves it at 20 degrees (construction)
+    assert n.loc[("K", "end"), "angle"] == pytest.approx(90.0)
     assert n.loc[("S", "start"), "angle"] == pytest.approx(20.0, abs=0.01)
     assert n.loc[("K", "end"), "gap_m"] == pytest.approx(6.0)  # undershoot closed by snapping
     assert n.loc[("S", "start"), "gap_m"] == pytest.approx(4.0)
@@ -67,14 +58,7 @@ def test_each_end_kind():
 
 
 def test_beyond_tolerance_stays_a_free_tip():
-    result = analyze_thrusts(
-        _network(),
-        study_area=area(box(-5000, -2000, 5000, 12000)),
-        snap_tolerance=3.0,
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(_network(), (-5000, -2000, 5000, 12000), snap_tolerance=3.0)
     nodes = _nodes(result)
     assert ("K", "end", "free_tip", "") in nodes and ("S", "start", "free_tip", "") in nodes
 
@@ -82,13 +66,7 @@ def test_beyond_tolerance_stays_a_free_tip():
 def test_branch_needs_same_hanging_wall_side():
     gdf = _network()
     gdf.loc[gdf["thrust_id"] == "S", "hw_side"] = "right"  # a backthrust splay
-    result = analyze_thrusts(
-        gdf,
-        study_area=area(box(-5000, -2000, 5000, 12000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(gdf, (-5000, -2000, 5000, 12000))
     assert ("S", "start", "truncation", "M") in _nodes(result)
 
 
@@ -98,13 +76,7 @@ def test_crossing_and_the_thrust_cutting_more_is_younger():
         ("T2", line((1000, 0), (1000, 10000)), "left", None),
         ("X", line((-1000, 2000), (2000, 8000)), "left", None),  # cuts obliquely through both
     ]
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(-2000, 0, 3000, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(traces(rows), (-2000, 0, 3000, 10000))
     cross = result.nodes[result.nodes["kind"] == "crossing"]
     assert sorted(map(tuple, cross[["thrust_id", "other_thrust"]].values)) == [
         ("T1", "X"),
@@ -123,13 +95,7 @@ def test_equal_crossing_is_left_undetermined():
         ("A", line((0, 0), (0, 10000)), "left", None),
         ("B", line((-1000, 2000), (1000, 8000)), "left", None),
     ]
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(-2000, 0, 2000, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(traces(rows), (-2000, 0, 2000, 10000))
     cross = result.nodes[result.nodes["kind"] == "crossing"]
     assert len(cross) == 1 and cross["younger"].iloc[0] == ""
     assert "crossing" not in set(result.relations["evidence"])
@@ -140,13 +106,7 @@ def test_overshoot_is_trimmed_not_a_crossing():
         ("M", line((0, 0), (0, 10000)), "left", None),
         ("K", line((-3000, 5000), (5, 5000)), "left", None),  # overshoots M by 5 m
     ]
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(-4000, 0, 1000, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(traces(rows), (-4000, 0, 1000, 10000))
     kinds = dict(
         zip(
             zip(result.nodes["thrust_id"], result.nodes["end"], strict=True),
@@ -173,13 +133,7 @@ def test_end_meeting_an_end_is_a_branch():
 
 def test_boundary_ends_are_snapped_onto_the_outline():
     rows = [("A", line((0, 5), (0, 9995)), "left", None)]  # 5 m short of both edges
-    result = analyze_thrusts(
-        traces(rows),
-        study_area=area(box(-1000, 0, 1000, 10000)),
-        transport_azimuth=90.0,
-        azimuth_ref="grid",
-        scanline_interval=500.0,
-    )
+    result = analyze_east(traces(rows), (-1000, 0, 1000, 10000))
     assert set(result.nodes["kind"]) == {"boundary"}
     assert len(result.sheets) == 2  # the trace now splits the area
 

@@ -77,3 +77,11 @@ def parallel_set(n=4, spacing=1000.0, length=10000.0, side="left", reverse=()):
         else:
             rows.append((f"T{k + 1}", line((x, 0), (x, length)), side, None))
     return traces(rows)
+
+
+def analyze_east(gdf, extent, **kw):
+    """analyze_thrusts with transport due east (grid) in the study area ``extent`` (offsets)."""
+    from thrustmap.thrusts import analyze_thrusts
+
+    options = {"transport_azimuth": 90.0, "azimuth_ref": "grid", "scanline_interval": 500.0, **kw}
+    return analyze_thrusts(gdf, study_area=area(box(*extent)), **options)

@@ -144,22 +144,91 @@ class ThrustAnalysis:
         }
 
 
-def _reject_more(
-    accepted: gpd.GeoDataFrame, mask: np.ndarray, codes: np.ndarray, field: str, layer: str
-) -> pd.DataFrame:
-    rows = [
-        {
-            "layer": layer,
-            "source_row": int(accepted["source_row"].iat[i]),
-            "thrust_id": accepted["thrust_id"].iat[i],
-            "reason": codes[i],
-            "field": field,
-            "value": None if pd.isna(accepted[field].iat[i]) else str(accepted[field].iat[i]),
-            "message": TRACE_REASONS[codes[i]],
-        }
-        for i in np.flatnonzero(mask)
-    ]
-    return rejects_frame(rows)
+@dataclass
+class _Sides:
+    """Accepted traces with their hanging-wall side, as rows get rejected along the way."""
+
+    accepted: gpd.GeoDataFrame
+    rejected: pd.DataFrame
+    side: np.ndarray
+    basis: np.ndarray
+
+    @property
+    def lines(self) -> np.ndarray:
+        return np.asarray(self.accepted.geometry, dtype=object)
+
+    def drop(self, mask: np.ndarray, codes: np.ndarray, fields: np.ndarray) -> None:
+        """Move the masked traces to the rejects with their reason code and field."""
+        if not mask.any():
+            return
+        acc = self.accepted
+        rows = [
+            {
+                "layer": "thrust_traces",
+                "source_row": int(acc["source_row"].iat[i]),
+                "thrust_id": acc["thrust_id"].iat[i],
+                "reason": codes[i],
+                "field": fields[i],
+                "value": None if pd.isna(acc[fields[i]].iat[i]) else str(acc[fields[i]].iat[i]),
+                "message": TRACE_REASONS[codes[i]],
+            }
+            for i in np.flatnonzero(mask)
+        ]
+        self.rejected = pd.concat([self.rejected, rejects_frame(rows)], ignore_index=True)
+        self.accepted = acc[~mask].reset_index(drop=True)
+        self.side, self.basis = self.side[~mask], self.basis[~mask]
+
+
+def _hanging_walls(
+    accepted: gpd.GeoDataFrame,
+    rejected: pd.DataFrame,
+    att: gpd.GeoDataFrame | None,
+    *,
+    crs: pyproj.CRS,
+    conv0: float,
+    transport_azimuth: float | None,
+    azimuth_ref: str,
+    attitude_radius: float,
+) -> tuple[_Sides, TransportDirection]:
+    """Sides given, then from attitudes; the transport direction; then sides from vergence."""
+    lines = np.asarray(accepted.geometry, dtype=object)
+    mid = shapely.get_coordinates(shapely.centroid(lines))
+    az = true_to_grid(
+        accepted["hw_dip_direction"].to_numpy(dtype=float),
+        grid_convergence(mid[:, 0], mid[:, 1], crs),
+    )
+    side, basis, problem = given_sides(lines, accepted["hw_side"], az)
+    state = _Sides(accepted, rejected, side, basis)
+    fields = np.where(problem == "hw_side_conflict", "hw_side", "hw_dip_direction")
+    state.drop(problem != "", problem, fields)
+
+    unknown = np.flatnonzero(state.side == 0)
+    if att is not None and len(unknown):
+        s_att, _ = sides_from_attitudes(state.lines[unknown], att, crs=crs, radius=attitude_radius)
+        state.side[unknown] = s_att
+        state.basis[unknown[s_att != 0]] = "attitudes"
+
+    transport = None
+    if transport_azimuth is not None:
+        transport = given_transport(transport_azimuth, azimuth_ref=azimuth_ref, convergence=conv0)
+    elif att is not None:
+        transport = transport_from_slickenlines(att, crs=crs, convergence=conv0)
+    if transport is None:
+        transport = transport_from_traces(state.lines, state.side, convergence=conv0)
+    if transport is None:
+        raise DegenerateDataError(
+            "no hanging-wall side is given or can be inferred for any trace: give hw_side or "
+            "hw_dip_direction for at least one trace, a transport_azimuth, or attitudes with "
+            "fault/thrust planes near the traces or reverse-sense slickenlines"
+        )
+    unknown = np.flatnonzero(state.side == 0)
+    if len(unknown):
+        s_verg = sides_from_vergence(state.lines[unknown], transport.azimuth_grid)
+        state.side[unknown] = s_verg
+        state.basis[unknown[s_verg != 0]] = "vergence"
+    n = len(state.side)
+    state.drop(state.side == 0, np.full(n, "hw_side_unresolved"), np.full(n, "hw_side"))
+    return state, transport
 
 
 def analyze_thrusts(
@@ -266,76 +335,19 @@ def analyze_thrusts(
     centre = shapely.get_coordinates(shapely.centroid(area))[0]
     conv0 = float(grid_convergence(centre[0], centre[1], crs))
 
-    lines = np.asarray(accepted.geometry, dtype=object)
-    mid = shapely.get_coordinates(shapely.centroid(lines))
-    conv = grid_convergence(mid[:, 0], mid[:, 1], crs)
+    state, transport = _hanging_walls(
+        accepted,
+        rejected,
+        att,
+        crs=crs,
+        conv0=conv0,
+        transport_azimuth=transport_azimuth,
+        azimuth_ref=azimuth_ref,
+        attitude_radius=attitude_radius,
+    )
+    accepted, rejected, side, basis = state.accepted, state.rejected, state.side, state.basis
+    lines = state.lines
     az_given = accepted["hw_dip_direction"].to_numpy(dtype=float)
-    side, basis, problem = given_sides(lines, accepted["hw_side"], true_to_grid(az_given, conv))
-    bad = problem != ""
-    if bad.any():
-        field = np.where(problem == "hw_side_conflict", "hw_side", "hw_dip_direction")
-        for fld in np.unique(field[bad]):
-            rejected = pd.concat(
-                [
-                    rejected,
-                    _reject_more(accepted, bad & (field == fld), problem, fld, "thrust_traces"),
-                ],
-                ignore_index=True,
-            )
-        accepted, lines, side, basis, az_given = (
-            accepted[~bad].reset_index(drop=True),
-            lines[~bad],
-            side[~bad],
-            basis[~bad],
-            az_given[~bad],
-        )
-
-    if att is not None and (side == 0).any():
-        unknown = np.flatnonzero(side == 0)
-        s_att, _ = sides_from_attitudes(lines[unknown], att, crs=crs, radius=attitude_radius)
-        side[unknown] = s_att
-        basis[unknown[s_att != 0]] = "attitudes"
-
-    transport = None
-    if transport_azimuth is not None:
-        transport = given_transport(transport_azimuth, azimuth_ref=azimuth_ref, convergence=conv0)
-    elif att is not None:
-        transport = transport_from_slickenlines(att, crs=crs, convergence=conv0)
-    if transport is None:
-        transport = transport_from_traces(lines, side, convergence=conv0)
-    if transport is None:
-        raise DegenerateDataError(
-            "no hanging-wall side is given or can be inferred for any trace: give hw_side or "
-            "hw_dip_direction for at least one trace, a transport_azimuth, or attitudes with "
-            "fault/thrust planes near the traces or reverse-sense slickenlines"
-        )
-    if (side == 0).any():
-        unknown = np.flatnonzero(side == 0)
-        s_verg = sides_from_vergence(lines[unknown], transport.azimuth_grid)
-        side[unknown] = s_verg
-        basis[unknown[s_verg != 0]] = "vergence"
-    if (side == 0).any():
-        bad = side == 0
-        rejected = pd.concat(
-            [
-                rejected,
-                _reject_more(
-                    accepted,
-                    bad,
-                    np.full(len(bad), "hw_side_unresolved"),
-                    "hw_side",
-                    "thrust_traces",
-                ),
-            ],
-            ignore_index=True,
-        )
-        accepted, lines, side, basis, az_given = (
-            accepted[~bad].reset_index(drop=True),
-            lines[~bad],
-            side[~bad],
-            basis[~bad],
-            az_given[~bad],
-        )
     ids = accepted["thrust_id"].to_numpy(dtype=object)
     index_of = {t: i for i, t in enumerate(ids)}
     log.info(
