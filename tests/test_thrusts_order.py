@@ -130,3 +130,11 @@ def test_formation_order_never_crashes_on_dense_cycles():
     out = formation_order([f"T{i}" for i in range(n)], np.arange(n, dtype=float), rel, cand)
     assert sorted(out.rank) == list(range(1, n + 1))
     assert len(out.contradictions) >= 1
+
+
+def test_single_trace_and_no_relation():
+    result = analyze_east(parallel_set(1), (-500, 0, 500, 10000))
+    assert result.order == ["T1"] and result.traces["sequence"].tolist() == ["in"]
+    assert result.relations.empty and result.relations["weight"].dtype == "int64"
+    assert result.spacing["pair"].tolist() == ["all"] and result.spacing["n"].tolist() == [0]
+    assert result.sheets[["floor_thrust", "roof_thrust"]].values.tolist() == [["T1", ""], ["", "T1"]]

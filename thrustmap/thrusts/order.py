@@ -501,6 +501,7 @@ def formation_order(
         columns=RELATION_COLUMNS,
     )
     table = pd.concat([strong, default], ignore_index=True) if len(default) else strong
+    table = table.astype({"relation_id": object, "weight": "int64", "x": "float64", "y": "float64"})
 
     contradictions = []
     for c in cyc:
