@@ -118,10 +118,19 @@ def cross_cutting_relations(
     younger[cross] = np.where(da > db, thrust[cross], np.where(db > da, other[cross], -1))
 
     t_idx = np.flatnonzero(trunc)
+    end = nodes["end"].to_numpy(dtype=object)
+    part = nodes["part"].to_numpy()
     t_detail = [
-        f"{ids[thrust[i]]} ({nodes['end'].iat[i]} of part {nodes['part'].iat[i]}) abuts "
-        f"{ids[other[i]]} at {angle[i]:.0f} degrees: the truncating thrust is younger"
-        for i in t_idx
+        f"{ids[a]} ({e} of part {p}) abuts {ids[b]} at {g:.0f} degrees: "
+        "the truncating thrust is younger"
+        for a, b, e, p, g in zip(
+            thrust[t_idx].tolist(),
+            other[t_idx].tolist(),
+            end[t_idx],
+            part[t_idx].tolist(),
+            angle[t_idx].tolist(),
+            strict=True,
+        )
     ]
     c_idx = np.flatnonzero(cross & (younger >= 0))
     c_detail = []
