@@ -56,6 +56,7 @@ def test_out_of_sequence_thrust_flagged_from_truncation():
     tr = result.traces.set_index("thrust_id")
     assert tr["sequence"].to_dict() == {"T1": "in", "T2": "in", "T3": "in", "X": "out", "T4": "in"}
     assert tr.loc["X", "sequence_detail"] == "younger than T3, which lies foreland of it"
+    assert "out of sequence: X" in result.summary().splitlines()
     rel = result.relations
     cut = rel[rel["evidence"] == "truncation"]
     assert cut[["younger", "older"]].values.tolist() == [["X", "T3"]]
@@ -95,6 +96,7 @@ def test_cycle_of_constraints_is_reported_not_broken():
     assert tr["contradiction"].to_dict() == {"T1": "C1", "T2": "C1", "T3": "C1", "T4": ""}
     assert sorted(tr["rank"]) == [1, 2, 3, 4]  # ranks still produced
     assert result.order == ["T1", "T2", "T3", "T4"]
+    assert "contradiction C1: T1 -> T2 -> T3 -> T1" in result.summary()
 
 
 def test_constraint_against_position_overrides_the_default():

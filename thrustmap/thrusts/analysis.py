@@ -131,6 +131,37 @@ class ThrustAnalysis:
         """Thrust ids from the oldest to the youngest."""
         return self.traces.sort_values("rank")["thrust_id"].tolist()
 
+    def summary(self) -> str:
+        """A few lines for people: transport, formation order, out-of-sequence thrusts, spacing.
+
+        Examples
+        --------
+        >>> import geopandas as gpd
+        >>> from shapely import LineString
+        >>> traces = gpd.GeoDataFrame({"thrust_id": ["A", "B"], "hw_side": ["left", "left"]},
+        ...     geometry=[LineString([(500000, 5e6), (500000, 5.005e6)]),
+        ...               LineString([(501000, 5e6), (501000, 5.005e6)])], crs="EPSG:32633")
+        >>> print(analyze_thrusts(traces, scanline_interval=500.0).summary().splitlines()[1])
+        formation order (oldest first): A, B
+        """
+        tr = self.transport
+        out = self.traces.loc[self.traces["sequence"] == "out", "thrust_id"].tolist()
+        overall = self.spacing.loc[self.spacing["pair"] == "all"].iloc[0]
+        lines = [
+            f"transport toward {tr.azimuth_true:.1f} (true) / {tr.azimuth_grid:.1f} (grid) "
+            f"from {tr.source.replace('_', ' ')}",
+            "formation order (oldest first): " + ", ".join(self.order),
+            "out of sequence: " + (", ".join(out) if out else "none"),
+            f"spacing along transport: mean {overall['mean_m']:.0f} m, median "
+            f"{overall['median_m']:.0f} m, CV {overall['cv']:.2f} (n = {overall['n']})",
+        ]
+        lines += [
+            f"contradiction {c.contradiction}: {c.cycle}" for c in self.contradictions.itertuples()
+        ]
+        if len(self.rejected):
+            lines.append(f"rejected rows: {len(self.rejected)} (see thrust_rejected)")
+        return "\n".join(lines)
+
     def layers(self) -> dict[str, pd.DataFrame]:
         """The output layers and tables under their GeoPackage layer names (``LAYER_NAMES``)."""
         return {
