@@ -77,6 +77,11 @@ def test_out_of_sequence_thrust_flagged_from_a_constraint():
     assert c[["younger", "older", "weight", "detail"]].values.tolist() == [
         ["X", "T4", 3, "age constraint, row 1: growth strata"]
     ]
+    # spacing: X halves the T2-T3 sheet; the in-sequence stack keeps 1 km (construction)
+    sp = result.spacing.set_index("pair")
+    assert sp.loc["X-T3", "mean_m"] == pytest.approx(500.0)
+    assert sp.loc["all", "mean_m"] == pytest.approx(750.0)
+    assert sp.loc["in_sequence", ["mean_m", "n"]].tolist() == pytest.approx([1000.0, 40])
 
 
 def test_cycle_of_constraints_is_reported_not_broken():
@@ -138,5 +143,9 @@ def test_single_trace_and_no_relation():
     result = analyze_east(parallel_set(1), (-500, 0, 500, 10000))
     assert result.order == ["T1"] and result.traces["sequence"].tolist() == ["in"]
     assert result.relations.empty and result.relations["weight"].dtype == "int64"
-    assert result.spacing["pair"].tolist() == ["all"] and result.spacing["n"].tolist() == [0]
-    assert result.sheets[["floor_thrust", "roof_thrust"]].values.tolist() == [["T1", ""], ["", "T1"]]
+    assert result.spacing["pair"].tolist() == ["all", "in_sequence"]
+    assert result.spacing["n"].tolist() == [0, 0]
+    assert result.sheets[["floor_thrust", "roof_thrust"]].values.tolist() == [
+        ["T1", ""],
+        ["", "T1"],
+    ]

@@ -26,10 +26,10 @@ def test_regular_set_exact():
         parallel_set(5, spacing=1250.0), (-500, 0, 5500, 10000), scanline_interval=1000.0
     )
     sp = result.spacing.set_index("pair")
-    assert sp.index.tolist() == ["T1-T2", "T2-T3", "T3-T4", "T4-T5", "all"]
-    assert sp["mean_m"].tolist() == pytest.approx([1250.0] * 5)
-    assert sp["n"].tolist() == [10, 10, 10, 10, 40]  # 10 scanlines across 10 km at 1 km
-    assert sp["cv"].tolist() == pytest.approx([0.0] * 5)
+    assert sp.index.tolist() == ["T1-T2", "T2-T3", "T3-T4", "T4-T5", "all", "in_sequence"]
+    assert sp["mean_m"].tolist() == pytest.approx([1250.0] * 6)
+    assert sp["n"].tolist() == [10, 10, 10, 10, 40, 40]  # 10 scanlines across 10 km at 1 km
+    assert sp["cv"].tolist() == pytest.approx([0.0] * 6)
     segs = result.scanlines
     assert segs["length_m"].tolist() == pytest.approx([1250.0] * 40)
     assert (segs.geometry.length == segs["length_m"]).all()

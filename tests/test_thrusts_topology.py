@@ -20,13 +20,13 @@ def _nodes(result):
 
 
 def _network():
-    """Main thrust M (west-dipping), a splay S leaving it at 20 degrees with the same
+    """Main thrust M (west-dipping), a splay S leaving it at 10 degrees with the same
     hanging-wall side, a thrust K abutting M at right angles from the hinterland, an
     isolated thrust F with two free tips, all inside a larger study area."""
     rows = [
         ("M", line((0, 0), (0, 10000)), "left", None),
-        # splay: starts 4 m off M (snapped), runs NNE at 20 degrees from M
-        ("S", line((4, 2000), (4 + 3000 * np.tan(np.radians(20)), 5000)), "left", None),
+        # splay: starts 4 m off M (snapped), runs NNE at 10 degrees from M
+        ("S", line((4, 2000), (4 + 3000 * np.tan(np.radians(10)), 5000)), "left", None),
         # K comes from the west and stops 6 m short of M (undershoot, snapped)
         ("K", line((-3000, 7000), (-6, 7000)), "left", None),
         ("F", line((3000, 3000), (3000, 6000)), "left", None),
@@ -42,9 +42,9 @@ def test_each_end_kind():
     assert ("F", "start", "free_tip", "") in nodes and ("F", "end", "free_tip", "") in nodes
     assert ("M", "start", "free_tip", "") in nodes
     n = result.nodes.set_index(["thrust_id", "end"])
-    # K abuts M at right angles and S leaves it at 20 degrees (construction)
+    # K abuts M at right angles and S leaves it at 10 degrees (construction)
     assert n.loc[("K", "end"), "angle"] == pytest.approx(90.0)
-    assert n.loc[("S", "start"), "angle"] == pytest.approx(20.0, abs=0.01)
+    assert n.loc[("S", "start"), "angle"] == pytest.approx(10.0, abs=0.01)
     assert n.loc[("K", "end"), "gap_m"] == pytest.approx(6.0)  # undershoot closed by snapping
     assert n.loc[("S", "start"), "gap_m"] == pytest.approx(4.0)
     # snapped: the traces now touch M exactly
@@ -61,6 +61,17 @@ def test_beyond_tolerance_stays_a_free_tip():
     result = analyze_east(_network(), (-5000, -2000, 5000, 12000), snap_tolerance=3.0)
     nodes = _nodes(result)
     assert ("K", "end", "free_tip", "") in nodes and ("S", "start", "free_tip", "") in nodes
+
+
+def test_oblique_junction_is_a_truncation():
+    gdf = _network()
+    s = line((4, 2000), (4 + 3000 * np.tan(np.radians(20)), 5000))  # 20 degrees: above the default
+    gdf.loc[gdf["thrust_id"] == "S", "geometry"] = s
+    result = analyze_east(gdf, (-5000, -2000, 5000, 12000))
+    assert ("S", "start", "truncation", "M") in _nodes(result)
+    assert ("S", "start", "branch", "M") in _nodes(
+        analyze_east(gdf, (-5000, -2000, 5000, 12000), branch_angle=25.0)
+    )
 
 
 def test_branch_needs_same_hanging_wall_side():

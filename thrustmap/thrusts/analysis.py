@@ -96,8 +96,11 @@ class ThrustAnalysis:
         Segments between successive thrusts on each scanline: ``scanline``,
         ``hinterland_thrust``, ``foreland_thrust``, ``pair``, ``length_m``.
     spacing : DataFrame
-        Statistics per pair and overall (``pair`` = "all"), see
-        :func:`thrustmap.thrusts.spacing.spacing_statistics`.
+        Statistics per pair, over every pair (``pair`` = "all", see
+        :func:`thrustmap.thrusts.spacing.spacing_statistics`) and over the
+        pairs of two in-sequence thrusts (``pair`` = "in_sequence": the
+        spacing of the imbricate stack, leaving out the scanline segments
+        that meet an out-of-sequence thrust).
     relations : DataFrame
         Every "formed after" relation: ``relation_id``, ``younger``, ``older``,
         ``evidence`` (truncation, crossing, constraint, in_sequence),
@@ -146,14 +149,16 @@ class ThrustAnalysis:
         """
         tr = self.transport
         out = self.traces.loc[self.traces["sequence"] == "out", "thrust_id"].tolist()
-        overall = self.spacing.loc[self.spacing["pair"] == "all"].iloc[0]
+        overall = self.spacing.set_index("pair")
+        every, stack = overall.loc["all"], overall.loc["in_sequence"]
         lines = [
             f"transport toward {tr.azimuth_true:.1f} (true) / {tr.azimuth_grid:.1f} (grid) "
             f"from {tr.source.replace('_', ' ')}",
             "formation order (oldest first): " + ", ".join(self.order),
             "out of sequence: " + (", ".join(out) if out else "none"),
-            f"spacing along transport: mean {overall['mean_m']:.0f} m, median "
-            f"{overall['median_m']:.0f} m, CV {overall['cv']:.2f} (n = {overall['n']})",
+            f"spacing along transport: mean {every['mean_m']:.0f} m, median "
+            f"{every['median_m']:.0f} m, CV {every['cv']:.2f} (n = {every['n']}); "
+            f"between in-sequence thrusts: mean {stack['mean_m']:.0f} m (n = {stack['n']})",
         ]
         lines += [
             f"contradiction {c.contradiction}: {c.cycle}" for c in self.contradictions.itertuples()
@@ -272,7 +277,7 @@ def analyze_thrusts(
     azimuth_ref: str = "true",
     snap_tolerance: float = 10.0,
     scanline_interval: float | None = None,
-    branch_angle: float = 45.0,
+    branch_angle: float = 15.0,
     attitude_radius: float = 1000.0,
     n_boot: int = 1000,
     seed: int = 0,
@@ -346,8 +351,8 @@ def analyze_thrusts(
     ...     crs="EPSG:32633")
     >>> result = analyze_thrusts(traces, transport_azimuth=90.0, azimuth_ref="grid",
     ...     scanline_interval=500.0)
-    >>> result.order, result.spacing["mean_m"].round(3).tolist()[-1]
-    (['T1', 'T2', 'T3'], 1000.0)
+    >>> result.order, result.spacing["mean_m"].round(3).tolist()[-2:]
+    (['T1', 'T2', 'T3'], [1000.0, 1000.0])
     """
     for name, value, low in (
         ("snap_tolerance", snap_tolerance, 0.0),
@@ -404,7 +409,6 @@ def analyze_thrusts(
     pairs = successive_pairs(inter)
     pairs["hinterland_thrust"] = ids[pairs["hinterland"].to_numpy(dtype=np.intp)]
     pairs["foreland_thrust"] = ids[pairs["foreland"].to_numpy(dtype=np.intp)]
-    spacing = spacing_statistics(pairs, seed=seed, n_boot=n_boot)
 
     cut_rel, node_younger = cross_cutting_relations(topo.nodes, ids)
     strong = pd.concat([constraint_relations(constraints, index_of), cut_rel], ignore_index=True)
@@ -416,6 +420,12 @@ def analyze_thrusts(
     order = formation_order(
         ids, position, strong, in_sequence_candidates(pairs), intersections=inter
     )
+    spacing = spacing_statistics(pairs, seed=seed, n_boot=n_boot)
+    both_in = (order.sequence[pairs["hinterland"].to_numpy(dtype=np.intp)] == "in") & (
+        order.sequence[pairs["foreland"].to_numpy(dtype=np.intp)] == "in"
+    )
+    stack = spacing_statistics(pairs[both_in], seed=seed, n_boot=n_boot).iloc[[-1]]
+    spacing = pd.concat([spacing, stack.assign(pair="in_sequence")], ignore_index=True)
 
     mid = shapely.get_coordinates(shapely.centroid(lines))
     conv = grid_convergence(mid[:, 0], mid[:, 1], crs)

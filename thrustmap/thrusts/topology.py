@@ -3,9 +3,13 @@
 Every end of every trace part is classified:
 
 * ``truncation`` - the end abuts another thrust (the other thrust cuts it off);
-* ``branch`` - the end merges into another thrust: it meets the other trace at
-  no more than ``branch_angle`` degrees with its hanging wall on the same side,
-  or it meets the other trace's end;
+* ``branch`` - the end merges into another thrust: it meets the other trace
+  nearly tangentially (at no more than ``branch_angle`` degrees, 15 by
+  default) with its hanging wall on the same side, or it meets the other
+  trace's end. Splays curve into the thrust they branch from, while a thrust
+  cutting another, even an out-of-sequence one subparallel to the belt,
+  usually meets it at a wider angle; map view alone cannot always tell them
+  apart, so the angle is a parameter;
 * ``boundary`` - the end lies on (within the tolerance) or beyond the
   study-area boundary: the trace leaves the mapped area;
 * ``free_tip`` - the thrust dies out in the map.
@@ -67,7 +71,7 @@ def build_topology(
     sides: ArrayLike,
     *,
     snap_tolerance: float,
-    branch_angle: float = 45.0,
+    branch_angle: float = 15.0,
     area: shapely.Geometry | None = None,
 ) -> Topology:
     """Snap trace ends, classify them, and find crossings.

@@ -111,7 +111,7 @@ TOOLS = (
             Param(
                 "branch_angle",
                 "float",
-                45.0,
+                15.0,
                 "largest junction angle of a branch (hanging walls on the same side); steeper contacts are truncations",
                 unit="degrees",
                 minimum=0.0,
