@@ -37,8 +37,21 @@ def test_given_true_azimuth_converted_with_pyproj_convergence():
 def test_given_azimuth_out_of_range():
     with pytest.raises(ParameterError, match="outside 0-360"):
         analyze_thrusts(parallel_set(2), transport_azimuth=400.0)
-    with pytest.raises(ParameterError, match="azimuth_ref = 'magnetic' is not one of: true, grid"):
+    with pytest.raises(ParameterError, match="azimuth_ref = 'compass' is not one of: true, grid"):
+        analyze_thrusts(parallel_set(2), transport_azimuth=90.0, azimuth_ref="compass")
+    with pytest.raises(ParameterError, match="give the declination"):
         analyze_thrusts(parallel_set(2), transport_azimuth=90.0, azimuth_ref="magnetic")
+
+
+def test_given_magnetic_azimuth_uses_the_declination():
+    # true = magnetic + declination (east positive): common practice
+    kw = dict(study_area=area(box(-500, 0, 2500, 10000)), scanline_interval=1000.0)
+    mag = analyze_thrusts(
+        parallel_set(3), transport_azimuth=87.0, azimuth_ref="magnetic", declination=3.0, **kw
+    )
+    true = analyze_thrusts(parallel_set(3), transport_azimuth=90.0, **kw)
+    assert mag.transport.azimuth_true == pytest.approx(90.0)
+    assert mag.transport.azimuth_grid == pytest.approx(true.transport.azimuth_grid)
 
 
 def test_slickenlines_give_the_hanging_wall_movement_and_cone():

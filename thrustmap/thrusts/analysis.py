@@ -224,6 +224,7 @@ def _hanging_walls(
     conv0: float,
     transport_azimuth: float | None,
     azimuth_ref: str,
+    declination: float | None,
     attitude_radius: float,
 ) -> tuple[_Sides, TransportDirection]:
     """Sides given, then from attitudes; the transport direction; then sides from vergence."""
@@ -246,7 +247,9 @@ def _hanging_walls(
 
     transport = None
     if transport_azimuth is not None:
-        transport = given_transport(transport_azimuth, azimuth_ref=azimuth_ref, convergence=conv0)
+        transport = given_transport(
+            transport_azimuth, azimuth_ref=azimuth_ref, convergence=conv0, declination=declination
+        )
     elif att is not None:
         transport = transport_from_slickenlines(att, crs=crs, convergence=conv0)
     if transport is None:
@@ -275,6 +278,7 @@ def analyze_thrusts(
     age_constraints: pd.DataFrame | None = None,
     attitudes: gpd.GeoDataFrame | None = None,
     azimuth_ref: str = "true",
+    declination: float | None = None,
     snap_tolerance: float = 10.0,
     scanline_interval: float | None = None,
     branch_angle: float = 15.0,
@@ -305,8 +309,11 @@ def analyze_thrusts(
         The attitude table (thrustmap's contract): reverse-sense slickenlines
         give the transport direction; fault and thrust planes near a trace
         give a missing hanging-wall side.
-    azimuth_ref : {"true", "grid"}
+    azimuth_ref : {"true", "grid", "magnetic"}
         North reference of ``transport_azimuth``.
+    declination : float, optional
+        Magnetic declination (degrees, east positive) for a magnetic
+        ``transport_azimuth``.
     snap_tolerance : float
         Metres; trace ends this close to another trace or to the study-area
         boundary are snapped onto it.
@@ -379,6 +386,7 @@ def analyze_thrusts(
         conv0=conv0,
         transport_azimuth=transport_azimuth,
         azimuth_ref=azimuth_ref,
+        declination=declination,
         attitude_radius=attitude_radius,
     )
     accepted, rejected, side, basis = state.accepted, state.rejected, state.side, state.basis

@@ -30,6 +30,7 @@ from thrustmap.thrusts._geometry import (
 from thrustmap.thrusts._north import grid_convergence, grid_to_true, true_to_grid
 
 __all__ = [
+    "AZIMUTH_REFS",
     "TRANSPORT_SOURCES",
     "TransportDirection",
     "fisher_mean",
@@ -129,34 +130,61 @@ def fisher_mean(
     return s / r, r, kappa, cone
 
 
-def given_transport(azimuth: float, *, azimuth_ref: str, convergence: float) -> TransportDirection:
+AZIMUTH_REFS = ("true", "grid", "magnetic")
+
+
+def given_transport(
+    azimuth: float,
+    *,
+    azimuth_ref: str,
+    convergence: float,
+    declination: float | None = None,
+) -> TransportDirection:
     """A transport azimuth supplied by the user.
 
     Parameters
     ----------
     azimuth : float
         Degrees, 0-360, toward the foreland.
-    azimuth_ref : {"true", "grid"}
+    azimuth_ref : {"true", "grid", "magnetic"}
         North reference of ``azimuth``.
     convergence : float
         Grid convergence (degrees) at the study area.
+    declination : float, optional
+        Magnetic declination (degrees, east positive); needed for a magnetic
+        azimuth (true = magnetic + declination).
 
     Raises
     ------
     ParameterError
-        For an azimuth outside 0-360 or an unknown reference.
+        For an azimuth outside 0-360, an unknown reference, or a magnetic
+        azimuth without a declination.
 
     Examples
     --------
     >>> given_transport(90.0, azimuth_ref="true", convergence=2.0).azimuth_grid
     88.0
+    >>> given_transport(90.0, azimuth_ref="magnetic", convergence=2.0, declination=3.0).azimuth_true
+    93.0
     """
-    if azimuth_ref not in ("true", "grid"):
-        raise ParameterError(f"azimuth_ref = {azimuth_ref!r} is not one of: true, grid")
+    if azimuth_ref not in AZIMUTH_REFS:
+        raise ParameterError(
+            f"azimuth_ref = {azimuth_ref!r} is not one of: {', '.join(AZIMUTH_REFS)}"
+        )
     az = float(azimuth)
     if not 0.0 <= az <= 360.0:
         raise ParameterError(f"transport_azimuth = {azimuth} degrees is outside 0-360")
-    grid = float(true_to_grid(az, convergence)) if azimuth_ref == "true" else az % 360.0
+    if azimuth_ref == "magnetic":
+        if declination is None:
+            raise ParameterError(
+                "transport_azimuth is magnetic: give the declination (degrees, east positive)"
+            )
+        true = float(normalize_azimuth(az + float(declination)))
+        grid = float(true_to_grid(true, convergence))
+    elif azimuth_ref == "true":
+        grid = float(true_to_grid(az, convergence))
+    else:
+        grid = float(normalize_azimuth(az))
     return TransportDirection(
         azimuth_grid=grid,
         azimuth_true=float(grid_to_true(grid, convergence)),
@@ -165,7 +193,8 @@ def given_transport(azimuth: float, *, azimuth_ref: str, convergence: float) -> 
         cone=float("nan"),
         spread=0.0,
         convergence=float(convergence),
-        detail=f"given by the user as {az:g} degrees ({azimuth_ref} north)",
+        detail=f"given by the user as {az:g} degrees ({azimuth_ref} north)"
+        + (f", declination {declination:g} degrees" if azimuth_ref == "magnetic" else ""),
     )
 
 

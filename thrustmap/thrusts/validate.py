@@ -73,7 +73,9 @@ _TYPE_NAMES = np.array(
 )
 
 
-def working_crs(crs: Any, *, layer: str, sample: gpd.GeoSeries | None = None) -> pyproj.CRS:
+def working_crs(
+    crs: Any, *, layer: str, sample: gpd.GeoSeries | None = None, source: str | None = None
+) -> pyproj.CRS:
     """The metric CRS to work in for a layer in ``crs``.
 
     A projected CRS in metres is kept; a geographic or non-metre CRS is
@@ -94,6 +96,7 @@ def working_crs(crs: Any, *, layer: str, sample: gpd.GeoSeries | None = None) ->
             "the layer has no coordinate reference system; set one (e.g. "
             "GeoDataFrame.set_crs('EPSG:32633')) before analysing it",
             layer=layer,
+            source=source,
         )
     crs = pyproj.CRS(crs)
     metric = crs.is_projected and all(
@@ -106,10 +109,17 @@ def working_crs(crs: Any, *, layer: str, sample: gpd.GeoSeries | None = None) ->
             f"CRS {crs.name!r} is not a projected CRS in metres and there is no data to "
             "choose a UTM zone from",
             layer=layer,
+            source=source,
         )
     utm = gpd.GeoSeries(sample[~sample.is_empty], crs=crs).estimate_utm_crs()
     log.info("layer %s: %s is not metric; working in %s", layer, crs.name, utm.name)
     return utm
+
+
+def _where(obj: Any, layer: str) -> dict[str, Any]:
+    """File and layer to name in messages: the reader's ``attrs`` when present."""
+    attrs = getattr(obj, "attrs", None) or {}
+    return {"source": attrs.get("source"), "layer": attrs.get("layer") or layer}
 
 
 def _text(values: pd.Series) -> pd.Series:
@@ -231,11 +241,14 @@ def prepare_traces(
         raise InputError(
             "the layer has no 'thrust_id' column; columns are: "
             + ", ".join(map(str, traces.columns)),
-            layer=layer,
+            **_where(traces, layer),
             field="thrust_id",
         )
     original = traces.reset_index(drop=True)
-    crs = working_crs(original.crs, layer=layer, sample=original.geometry)
+    where = _where(traces, layer)
+    crs = working_crs(
+        original.crs, layer=where["layer"], sample=original.geometry, source=where["source"]
+    )
     geom_in = original.geometry
     if original.crs is not None and pyproj.CRS(original.crs) != crs:
         geom_in = geom_in.to_crs(crs)
@@ -381,7 +394,9 @@ def prepare_area(
         area = area.geometry
     if isinstance(area, gpd.GeoSeries):
         if area.crs is None:
-            raise CRSError("the layer has no coordinate reference system; set one", layer=layer)
+            raise CRSError(
+                "the layer has no coordinate reference system; set one", **_where(area, layer)
+            )
         geom = shapely.union_all(np.asarray(area.to_crs(crs), dtype=object))
     elif isinstance(area, shapely.Geometry):
         geom = gpd.GeoSeries([area], crs=input_crs).to_crs(crs).iloc[0]
@@ -389,18 +404,20 @@ def prepare_area(
         raise InputError(
             f"expected polygons (GeoDataFrame, GeoSeries or shapely geometry), got "
             f"{type(area).__name__}",
-            layer=layer,
+            **_where(area, layer),
         )
     if geom is None or geom.is_empty:
-        raise InputError("the study area is empty", layer=layer)
+        raise InputError("the study area is empty", **_where(area, layer))
     if shapely.get_type_id(geom) not in (3, 6):
         raise InputError(
-            f"the study area must be polygons; got {geom.geom_type}", layer=layer, field="geometry"
+            f"the study area must be polygons; got {geom.geom_type}",
+            **_where(area, layer),
+            field="geometry",
         )
     if not shapely.is_valid(geom):
         raise InputError(
             f"the study area is invalid ({shapely.is_valid_reason(geom)}); repair it first",
-            layer=layer,
+            **_where(area, layer),
             field="geometry",
         )
     return geom
@@ -439,10 +456,12 @@ def prepare_attitudes(
             + ", ".join(missing)
             + "; expected the attitude table columns "
             + ", ".join(_ATTITUDE_COLUMNS),
-            layer=layer,
+            **_where(attitudes, layer),
         )
     if attitudes.crs is None:
-        raise CRSError("the layer has no coordinate reference system; set one", layer=layer)
+        raise CRSError(
+            "the layer has no coordinate reference system; set one", **_where(attitudes, layer)
+        )
     return attitudes.to_crs(crs) if pyproj.CRS(attitudes.crs) != crs else attitudes
 
 
@@ -495,7 +514,7 @@ def prepare_constraints(
             raise InputError(
                 f"the table has no {c!r} column; columns are: "
                 + ", ".join(map(str, table.columns)),
-                layer=layer,
+                **_where(table, layer),
                 field=c,
             )
     rejected_ids = rejected_ids or {}

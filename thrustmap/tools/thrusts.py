@@ -85,12 +85,22 @@ TOOLS = (
                 minimum=0.0,
                 maximum=360.0,
             ),
+            # type and choices as the shared options azimuth_ref and declination
             Param(
                 "azimuth_ref",
                 "choice",
-                "true",
-                "north reference of transport_azimuth",
-                choices=("true", "grid"),
+                default="true",
+                help="North reference of transport_azimuth: true, grid (of the working CRS) or "
+                "magnetic (corrected with the declination); hw_dip_direction is true north.",
+                choices=("true", "grid", "magnetic"),
+            ),
+            Param(
+                "declination",
+                "float",
+                help="Magnetic declination to apply to a magnetic transport_azimuth, east positive.",
+                unit="degrees",
+                minimum=-90.0,
+                maximum=90.0,
             ),
             Param(
                 "snap_tolerance",
