@@ -143,5 +143,7 @@ def test_errors_share_the_root():
 def test_messages_name_the_file_the_reader_recorded():
     gdf = parallel_set(2).set_crs(None, allow_override=True)
     gdf.attrs.update(source="field/thrusts.gpkg", layer="faults_2024")
-    with pytest.raises(CRSError, match="file field/thrusts.gpkg, layer faults_2024: .*no coordinate"):
+    with pytest.raises(
+        CRSError, match="file field/thrusts.gpkg, layer faults_2024: .*no coordinate"
+    ):
         prepare_traces(gdf)
