@@ -10,16 +10,11 @@ from thrustmap.errors import ParameterError
 from thrustmap.thrusts import LAYER_NAMES
 from thrustmap.tools.thrusts import TOOLS
 
-# layer names fixed by the data contract shared by the helpers
-CONTRACT_LAYERS = {
-    "thrust_traces",
-    "thrust_sheets",
-    "thrust_nodes",
-    "spacing_scanlines",
-    "spacing",
-    "thrust_relations",
-    "thrust_rejected",
-}
+# layer names fixed by the data contract shared by the helpers (its "Run outputs" list)
+CONTRACT_LAYERS = set(
+    "thrust_traces thrust_sheets thrust_nodes spacing_scanlines spacing thrust_relations "
+    "thrust_rejected".split()
+)
 
 
 def test_declaration_matches_the_contract():
