@@ -10,7 +10,7 @@ from thrustmap.errors import ParameterError
 from thrustmap.thrusts import LAYER_NAMES
 from thrustmap.tools.thrusts import TOOLS
 
-# layer names fixed by the data contract shared by the helpers (its "Run outputs" list)
+# layer names fixed for the run GeoPackage: the data contract's thrust layers plus thrust_rejected
 CONTRACT_LAYERS = set(
     "thrust_traces thrust_sheets thrust_nodes spacing_scanlines spacing thrust_relations "
     "thrust_rejected".split()
