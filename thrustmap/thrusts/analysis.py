@@ -428,12 +428,10 @@ def analyze_thrusts(
     order = formation_order(
         ids, position, strong, in_sequence_candidates(pairs), intersections=inter
     )
-    spacing = spacing_statistics(pairs, seed=seed, n_boot=n_boot)
     both_in = (order.sequence[pairs["hinterland"].to_numpy(dtype=np.intp)] == "in") & (
         order.sequence[pairs["foreland"].to_numpy(dtype=np.intp)] == "in"
     )
-    stack = spacing_statistics(pairs[both_in], seed=seed, n_boot=n_boot).iloc[[-1]]
-    spacing = pd.concat([spacing, stack.assign(pair="in_sequence")], ignore_index=True)
+    spacing = spacing_statistics(pairs, seed=seed, n_boot=n_boot, subsets={"in_sequence": both_in})
 
     mid = shapely.get_coordinates(shapely.centroid(lines))
     conv = grid_convergence(mid[:, 0], mid[:, 1], crs)

@@ -9,6 +9,8 @@ confidence interval of the mean.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
+
 import numpy as np
 import pandas as pd
 import shapely
@@ -261,6 +263,7 @@ def spacing_statistics(
     seed: int = 0,
     n_boot: int = 1000,
     confidence: float = 0.95,
+    subsets: Mapping[str, ArrayLike] | None = None,
 ) -> pd.DataFrame:
     """Spacing statistics per (hinterland, foreland) thrust pair and over all pairs.
 
@@ -275,16 +278,20 @@ def spacing_statistics(
         Bootstrap resamples.
     confidence : float
         Level of the percentile confidence interval of the mean.
+    subsets : mapping of str to array_like of bool, optional
+        Further overall rows: label -> mask over the rows of ``pairs``. A pair
+        counts in a subset when any of its rows is selected (subsets are
+        made of whole pairs).
 
     Returns
     -------
     DataFrame
-        ``SPACING_COLUMNS``: one row per pair (``pair`` = ``"H-F"``) then one
-        with ``pair`` = ``"all"``. ``std_m`` uses n - 1; ``cv`` = std/mean.
-        Confidence intervals are bootstrap percentile intervals of the mean;
-        the overall one resamples within each pair (stratified by pair), so
-        the share of each pair stays as measured. The interval is NaN for
-        fewer than two distances.
+        ``SPACING_COLUMNS``: one row per pair (``pair`` = ``"H-F"``), one with
+        ``pair`` = ``"all"``, then one per subset (``pair`` = its label).
+        ``std_m`` uses n - 1; ``cv`` = std/mean. Confidence intervals are
+        bootstrap percentile intervals of the mean; an overall one resamples
+        within each pair (stratified by pair), so the share of each pair stays
+        as measured. The interval is NaN for fewer than two distances.
 
     Raises
     ------
@@ -294,16 +301,20 @@ def spacing_statistics(
     Examples
     --------
     >>> import pandas as pd
-    >>> p = pd.DataFrame({"hinterland_thrust": ["T1"] * 3, "foreland_thrust": ["T2"] * 3,
-    ...     "length_m": [900.0, 1000.0, 1100.0]})
-    >>> s = spacing_statistics(p, seed=1)
+    >>> p = pd.DataFrame({"hinterland_thrust": ["T1"] * 3 + ["T2"], "foreland_thrust": ["T2"] * 3
+    ...     + ["T3"], "length_m": [900.0, 1000.0, 1100.0, 500.0]})
+    >>> s = spacing_statistics(p, seed=1, subsets={"first": [True] * 3 + [False]})
     >>> s[["pair", "n", "mean_m", "median_m", "std_m", "cv"]].values.tolist()[0]
     ['T1-T2', 3, 1000.0, 1000.0, 100.0, 0.1]
+    >>> s[["pair", "n", "mean_m"]].values.tolist()[2:]
+    [['all', 4, 875.0], ['first', 3, 1000.0]]
     """
     if n_boot < 1:
         raise ParameterError(f"n_boot = {n_boot} must be >= 1")
     if not 0.0 < confidence < 1.0:
         raise ParameterError(f"confidence = {confidence} must be between 0 and 1")
+    masks = {"all": np.ones(len(pairs), dtype=bool)}
+    masks.update({k: np.asarray(v, dtype=bool) for k, v in (subsets or {}).items()})
     frame = pd.DataFrame(
         {
             "hinterland_thrust": pairs["hinterland_thrust"].astype(object).to_numpy(),
@@ -311,39 +322,51 @@ def spacing_statistics(
             "length_m": pairs["length_m"].to_numpy(dtype=float),
         }
     )
-    frame = frame.sort_values(["hinterland_thrust", "foreland_thrust"], kind="stable")
+    order = frame.sort_values(
+        ["hinterland_thrust", "foreland_thrust"], kind="stable"
+    ).index.to_numpy()
+    frame = frame.iloc[order].reset_index(drop=True)
+    masks = {k: m[order] for k, m in masks.items()}
     rng = np.random.default_rng(seed)
     q = [(1.0 - confidence) / 2.0, 1.0 - (1.0 - confidence) / 2.0]
     grouped = frame.groupby(["hinterland_thrust", "foreland_thrust"], sort=True)["length_m"]
     table = grouped.agg(n="size", mean_m="mean", median_m="median", std_m="std").reset_index()
-    overall = pd.DataFrame(
-        {
-            "hinterland_thrust": [""],
-            "foreland_thrust": [""],
-            "n": [len(frame)],
-            "mean_m": [frame["length_m"].mean()],
-            "median_m": [frame["length_m"].median()],
-            "std_m": [frame["length_m"].std()],
-        }
-    )
     values = frame["length_m"].to_numpy()
     size = table["n"].to_numpy(dtype=np.intp)
     start = np.concatenate([[0], np.cumsum(size)[:-1]]).astype(np.intp)
     ci = np.full((len(table), 2), np.nan)
-    all_ci = np.full(2, np.nan)
+    means = np.zeros((len(table), 0))
     if len(values):
         means = np.ascontiguousarray(_bootstrap_means(values, start, size, rng, n_boot).T)
         ci = np.quantile(means, q, axis=1).T
         ci[size < 2] = np.nan
-        if len(values) > 1:
-            all_ci = np.quantile(size @ means / size.sum(), q)
     table["ci_low_m"], table["ci_high_m"] = ci[:, 0], ci[:, 1]
-    overall["ci_low_m"], overall["ci_high_m"] = all_ci[0], all_ci[1]
     table["pair"] = (
         table["hinterland_thrust"].astype(str) + "-" + table["foreland_thrust"].astype(str)
     )
-    overall["pair"] = "all"
-    out = pd.concat([table, overall], ignore_index=True)
+    group_of_row = np.repeat(np.arange(len(size)), size)
+    rows = []
+    for label, mask in masks.items():
+        chosen = np.zeros(len(size), dtype=bool)
+        chosen[group_of_row[mask]] = True
+        v = values[np.repeat(chosen, size)]
+        band = np.full(2, np.nan)
+        if len(v) > 1:
+            band = np.quantile(size[chosen] @ means[chosen] / size[chosen].sum(), q)
+        rows.append(
+            {
+                "pair": label,
+                "hinterland_thrust": "",
+                "foreland_thrust": "",
+                "n": len(v),
+                "mean_m": v.mean() if len(v) else np.nan,
+                "median_m": np.median(v) if len(v) else np.nan,
+                "std_m": v.std(ddof=1) if len(v) > 1 else np.nan,
+                "ci_low_m": band[0],
+                "ci_high_m": band[1],
+            }
+        )
+    out = pd.concat([table, pd.DataFrame(rows)], ignore_index=True)
     out["n"] = out["n"].astype("int64")
     out["cv"] = out["std_m"] / out["mean_m"]
     return out[SPACING_COLUMNS]
