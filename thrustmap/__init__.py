@@ -5,3 +5,7 @@ from thrustmap.errors import ThrustmapError
 from thrustmap.orientation import parse_plane, parse_planes
 
 __all__ = ["__version__", "ThrustmapError", "parse_plane", "parse_planes"]
+
+from thrustmap.thrusts import analyze_thrusts  # noqa: E402
+
+__all__ += ["analyze_thrusts"]
