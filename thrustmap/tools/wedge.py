@@ -16,7 +16,7 @@ import numpy as np
 import pandas as pd
 import shapely
 
-from thrustmap.errors import InputError, ParameterError, SourceNotFoundError
+from thrustmap.errors import InputError, ParameterError
 from thrustmap.figures import figure_writer
 from thrustmap.orientation import strike_to_dip_direction
 from thrustmap.profiles import plot_profiles, sample_profiles, surface_profiles, transport_lines
@@ -27,6 +27,7 @@ from thrustmap.sections import (
     plot_down_plunge,
     plot_section,
 )
+from thrustmap.tools._sample import SAMPLE, scenario
 from thrustmap.tools.declare import Example, FileOutput, LayerInput, LayerOutput, Param, Tool
 from thrustmap.wedge import (
     METHODS,
@@ -256,25 +257,13 @@ def _down_plunge(
     return {"section_down_plunge": view, "down_plunge_png": draw, "down_plunge_svg": draw}
 
 
-# The worked examples read the bundled synthetic scenario of a source checkout.
-_SAMPLE = Path(__file__).resolve().parents[2] / "sample_gis"
-_SCENARIO = _SAMPLE / "scenario.gpkg"
-_SAMPLE_ELEVATION = str(_SAMPLE / "elevation.asc")
+_SAMPLE_ELEVATION = str(SAMPLE / "elevation.asc")
 _TRANSPORT_GRID = 20.0  # the scenario's transport azimuth, grid north
-
-
-def _scenario(layer: str) -> str:
-    if not _SCENARIO.exists():
-        raise SourceNotFoundError(
-            f"file {_SCENARIO}: not found; the worked examples read the bundled synthetic sample_gis/ "
-            "of a source checkout"
-        )
-    return f"{_SCENARIO}:{layer}"
 
 
 def _example_attitudes() -> gpd.GeoDataFrame:
     """The scenario's stations as an attitude table with grid-north columns (as the reader makes)."""
-    source, layer = _scenario("stations").rsplit(":", 1)
+    source, layer = scenario("stations").rsplit(":", 1)
     st = gpd.read_file(source, layer=layer, engine="pyogrio")
     xy = shapely.get_coordinates(np.asarray(st.geometry.values))
     strike = pd.to_numeric(st["strike"], errors="coerce").to_numpy(float)
@@ -300,7 +289,7 @@ def _example_attitudes() -> gpd.GeoDataFrame:
 
 
 def _profiles_example(folder: Path) -> dict[str, str]:
-    return {"study_area": _scenario("study_area"), "thrust_traces": _scenario("thrust_traces")}
+    return {"study_area": scenario("study_area"), "thrust_traces": scenario("thrust_traces")}
 
 
 def _taper_example(folder: Path) -> dict[str, Any]:
@@ -313,11 +302,11 @@ def _section_example(folder: Path) -> dict[str, Any]:
     line = gpd.GeoDataFrame({"section_id": ["A"]}, geometry=[shapely.LineString([centre - 14000 * u,
                                                                                 centre + 14000 * u])],
                             crs=_example_attitudes().crs)
-    return {"attitudes": _example_attitudes(), "section_line": line, "thrust_traces": _scenario("thrust_traces")}
+    return {"attitudes": _example_attitudes(), "section_line": line, "thrust_traces": scenario("thrust_traces")}
 
 
 def _down_plunge_example(folder: Path) -> dict[str, Any]:
-    return {"attitudes": _example_attitudes(), "domains": _scenario("domains")}
+    return {"attitudes": _example_attitudes(), "domains": scenario("domains")}
 
 
 _ELEVATION = Param("elevation", "str", None, "Elevation grid: path of an ESRI ASCII grid (.asc, with its .prj) "
