@@ -194,12 +194,18 @@ def test_domain_statistics_layers():
     assert shapely.equals(d.loc["D1", "geometry"], two_domains().geometry[0])
     fa = res.fold_axes.set_index("domain")
     for name, truth in (("D1", truth1), ("D2", truth2)):
-        assert angle_between_lines(fa.loc[name, "axis_trend"], fa.loc[name, "axis_plunge"],
-                                   truth[0], truth[1]) < 3 * fa.loc[name, "cone95"]
+        assert (
+            angle_between_lines(
+                fa.loc[name, "axis_trend"], fa.loc[name, "axis_plunge"], truth[0], truth[1]
+            )
+            < 3 * fa.loc[name, "cone95"]
+        )
         assert fa.loc[name, "interlimb_angle"] == pytest.approx(truth[2], abs=5)
         assert two_domains().geometry[0 if name == "D1" else 1].contains(fa.loc[name, "geometry"])
         # grid north = true north - convergence (2 degrees here)
-        assert (fa.loc[name, "axis_trend"] - fa.loc[name, "axis_trend_grid"]) % 360 == pytest.approx(2.0)
+        assert (
+            fa.loc[name, "axis_trend"] - fa.loc[name, "axis_trend_grid"]
+        ) % 360 == pytest.approx(2.0)
     assert set(res.fits) == {"D1", "D2"}
     assert (fa["azimuth_ref"] == "true").all()
 
@@ -223,7 +229,9 @@ def test_domain_statistics_by_attribute_and_all():
     res = dm.domain_statistics(att, id_column="zone", n_boot=0)
     assert res.domains["domain"].tolist() == ["north"]
     assert res.domains.geometry[0].geom_type == "Polygon"
-    assert res.domains.geometry[0].contains(res.fold_axes.geometry[0]) or res.domains.geometry[0].touches(res.fold_axes.geometry[0])
+    assert res.domains.geometry[0].contains(res.fold_axes.geometry[0]) or res.domains.geometry[
+        0
+    ].touches(res.fold_axes.geometry[0])
     whole = dm.domain_statistics(att.drop(columns="zone"), n_boot=0)
     assert whole.domains["domain"].tolist() == ["all"]
     assert whole.fold_axes["axis_trend"][0] == pytest.approx(res.fold_axes["axis_trend"][0])

@@ -45,7 +45,9 @@ def test_axis_matches_fit_girdle(seed):
     strike, gdip = mplstereonet.fit_girdle(dip_direction_to_strike(dd), dip)
     ref_plunge, ref_bearing = mplstereonet.pole2plunge_bearing(strike, gdip)
     fit = folds.fit_fold(dd, dip, n_boot=0)
-    assert angle_between_lines(fit.axis_trend, fit.axis_plunge, ref_bearing[0], ref_plunge[0]) < 1e-6
+    assert (
+        angle_between_lines(fit.axis_trend, fit.axis_plunge, ref_bearing[0], ref_plunge[0]) < 1e-6
+    )
 
 
 def test_seed_sweep_recovers_axis_and_interlimb():
@@ -118,8 +120,9 @@ def test_overturned_limb_makes_a_tight_fold():
 
 def test_hinge_lines_compared_with_axis():
     dd, dip, over, (trend, plunge, _) = synthetic_fold(9)
-    fit = folds.fit_fold(dd, dip, overturned=over, n_boot=0, hinge_trend=[trend] * 3,
-                         hinge_plunge=[plunge] * 3)
+    fit = folds.fit_fold(
+        dd, dip, overturned=over, n_boot=0, hinge_trend=[trend] * 3, hinge_plunge=[plunge] * 3
+    )
     assert fit.hinge_n == 3
     assert fit.hinge_angle == pytest.approx(
         angle_between_lines(fit.axis_trend, fit.axis_plunge, trend, plunge), abs=1e-6
@@ -178,19 +181,31 @@ def test_uniform_random_poles_warn_but_give_numbers():
         fit = folds.fit_fold(dd, dip, n_boot=100)
     assert fit.cylindricity < folds.MIN_CYLINDRICITY
     assert fit.cone95 > 20
-    values = [fit.axis_trend, fit.axis_plunge, fit.cone95, fit.interlimb_angle,
-              fit.axial_plane_dip, fit.axial_plane_dip_direction]
+    values = [
+        fit.axis_trend,
+        fit.axis_plunge,
+        fit.cone95,
+        fit.interlimb_angle,
+        fit.axial_plane_dip,
+        fit.axial_plane_dip_direction,
+    ]
     assert np.isfinite(values).all()
 
 
 @pytest.mark.parametrize(
     "dd,dip,kw,exc,match",
     [
-        ([10, 20], [30, 95], {}, InputError, "0-90"),
+        ([10, 20], [30, 95], {}, InputError, "dip at position 1 is 95.0.*0 to 90"),
         ([10, np.nan, 30], [30, 40, 50], {}, InputError, "position"),
         ([10, 20, 30], [30, 40], {}, InputError, "pair up"),
         ([10, 200, 30, 40, 50], [30, 40, 50, 60, 70], {"n_boot": -1}, ParameterError, "n_boot"),
-        ([10, 200, 30, 40, 50], [30, 40, 50, 60, 70], {"overturned": [True]}, InputError, "overturned"),
+        (
+            [10, 200, 30, 40, 50],
+            [30, 40, 50, 60, 70],
+            {"overturned": [True]},
+            InputError,
+            "overturned",
+        ),
     ],
 )
 def test_bad_input(dd, dip, kw, exc, match):
@@ -312,6 +327,4 @@ def test_to_dict_is_flat():
     d = fit.to_dict()
     assert {"s1", "s2", "s3", "limb_n_1", "limb_n_2", "axial_plane_strike"} <= set(d)
     assert not any(isinstance(v, tuple) for v in d.values())
-    assert d["axial_plane_strike"] == pytest.approx(
-        (fit.axial_plane_dip_direction - 90) % 360
-    )
+    assert d["axial_plane_strike"] == pytest.approx((fit.axial_plane_dip_direction - 90) % 360)

@@ -258,3 +258,25 @@ def test_shape_stack_and_errors():
 def test_tensor_shape_property():
     t = stats.orientation_tensor(np.arange(0, 360, 20.0), np.full(18, 5.0))
     assert t.shape.K < 1  # Woodcock (1977): a girdle
+
+
+@pytest.mark.parametrize(
+    "trend", [0.0, 45.0, 90.0, 135.0, 180.0, 270.0, 359.999, 360.0, -90.0, 450.0]
+)
+@pytest.mark.parametrize("plunge", [-90.0, -30.0, 0.0, 30.0, 89.9, 90.0])
+def test_fast_components_match_line_to_vector(trend, plunge):
+    # The sine/square-root components equal orientation.line_to_vector.
+    fast = stats._components(np.array([trend]), np.array([plunge]))[:, 0]
+    np.testing.assert_allclose(fast, line_to_vector(trend, plunge), rtol=0, atol=1e-13)
+
+
+@given(st.floats(-720, 720), st.floats(-90, 90))
+def test_fast_components_close_everywhere(trend, plunge):
+    fast = stats._components(np.array([trend]), np.array([plunge]))[:, 0]
+    np.testing.assert_allclose(fast, line_to_vector(trend, plunge), rtol=0, atol=2e-8)
+    assert np.linalg.norm(fast) == pytest.approx(1.0, abs=1e-15)
+
+
+def test_plunge_range_checked():
+    with pytest.raises(InputError, match="plunge at position 1 is 95.0.*-90 to 90"):
+        stats.fisher_stats([10, 20, 30], [10, 95, 20])

@@ -12,11 +12,26 @@ from thrustmap.folds import fit_fold
 
 
 def rows(dd=(), dip=(), lines=(), feature="bedding"):
-    planes = pd.DataFrame({"feature": feature, "kind": "plane", "dip_direction": list(dd),
-                           "dip": list(dip), "trend": np.nan, "plunge": np.nan})
-    lin = pd.DataFrame({"feature": [f for f, _, _ in lines], "kind": "line", "dip_direction": np.nan,
-                        "dip": np.nan, "trend": [t for _, t, _ in lines],
-                        "plunge": [p for _, _, p in lines]})
+    planes = pd.DataFrame(
+        {
+            "feature": feature,
+            "kind": "plane",
+            "dip_direction": list(dd),
+            "dip": list(dip),
+            "trend": np.nan,
+            "plunge": np.nan,
+        }
+    )
+    lin = pd.DataFrame(
+        {
+            "feature": [f for f, _, _ in lines],
+            "kind": "line",
+            "dip_direction": np.nan,
+            "dip": np.nan,
+            "trend": [t for _, t, _ in lines],
+            "plunge": [p for _, _, p in lines],
+        }
+    )
     return pd.concat([planes, lin], ignore_index=True)
 
 
@@ -34,8 +49,15 @@ def test_full_figure_has_every_element():
     data = rows(dd, dip, lines=[("hinge_line", 10, 20), ("lineation", 200, 5)])
     fig = stereonet.plot_stereonet(data, fit=fit, title="Domain D1")
     labels = legend_labels(fig)
-    for label in ("bedding poles (60)", "hinge line (1)", "lineation (1)", "\u03c0-girdle",
-                  "axial plane", "fold axis + 95% cone", "mean hinge line"):
+    for label in (
+        "bedding poles (60)",
+        "hinge line (1)",
+        "lineation (1)",
+        "\u03c0-girdle",
+        "axial plane",
+        "fold axis + 95% cone",
+        "mean hinge line",
+    ):
         assert label in labels
     texts = " ".join(t.get_text() for t in fig.texts)
     assert "Domain D1" in texts and f"N          {fit.n}" in texts and fit.tightness in texts
@@ -51,8 +73,9 @@ def test_figure_without_fold_or_density():
 def test_writes_png_and_svg_atomically(tmp_path):
     dd, dip, over, _ = synthetic_fold(4, n=40)
     fit = fit_fold(dd, dip, overturned=over, n_boot=50)
-    paths = stereonet.write_stereonet(rows(dd, dip), tmp_path / "figures", "D 1/x", fit=fit,
-                                      title="Domain D 1/x")
+    paths = stereonet.write_stereonet(
+        rows(dd, dip), tmp_path / "figures", "D 1/x", fit=fit, title="Domain D 1/x"
+    )
     assert [p.name for p in paths] == ["stereonet_D_1_x.png", "stereonet_D_1_x.svg"]
     image = imread(paths[0])
     assert image.shape[0] == 1480 and image.shape[1] == 1200  # 6.0 x 7.4 in at 200 dpi
@@ -78,5 +101,8 @@ def test_one_figure_pair_per_domain(tmp_path):
     res = domain_statistics(attitudes(data), two_domains(), n_boot=20)
     paths = stereonet.write_domain_stereonets(res, tmp_path)
     assert [p.name for p in paths] == [
-        "stereonet_D1.png", "stereonet_D1.svg", "stereonet_D2.png", "stereonet_D2.svg"
+        "stereonet_D1.png",
+        "stereonet_D1.svg",
+        "stereonet_D2.png",
+        "stereonet_D2.svg",
     ]

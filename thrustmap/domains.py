@@ -127,14 +127,20 @@ def _check_overlaps(geoms: np.ndarray, ids: np.ndarray, layer: str) -> None:
         )
 
 
-def _same_crs(attitudes: gpd.GeoDataFrame, polygons: gpd.GeoDataFrame, layer: str) -> gpd.GeoDataFrame:
+def _same_crs(
+    attitudes: gpd.GeoDataFrame, polygons: gpd.GeoDataFrame, layer: str
+) -> gpd.GeoDataFrame:
     if attitudes.crs is None and polygons.crs is None:
         return polygons
     if attitudes.crs is None or polygons.crs is None:
         missing = "the attitudes" if attitudes.crs is None else f"layer {layer}"
-        raise CRSError(f"{missing} carry no CRS; set it (e.g. with set_crs) so the layers can be overlaid")
+        raise CRSError(
+            f"{missing} carry no CRS; set it (e.g. with set_crs) so the layers can be overlaid"
+        )
     if attitudes.crs != polygons.crs:
-        log.info("reprojecting %s from %s to the attitudes' CRS %s", layer, polygons.crs, attitudes.crs)
+        log.info(
+            "reprojecting %s from %s to the attitudes' CRS %s", layer, polygons.crs, attitudes.crs
+        )
         return polygons.to_crs(attitudes.crs)
     return polygons
 
@@ -207,7 +213,9 @@ def _prepare(
     return ids, geoms
 
 
-def _assign(attitudes: gpd.GeoDataFrame, ids: np.ndarray, geoms: np.ndarray, layer: str) -> np.ndarray:
+def _assign(
+    attitudes: gpd.GeoDataFrame, ids: np.ndarray, geoms: np.ndarray, layer: str
+) -> np.ndarray:
     assigned = np.full(len(attitudes), UNASSIGNED, dtype=object)
     if len(geoms) and len(attitudes):
         point_idx, poly_idx = shapely.STRtree(geoms).query(
@@ -321,7 +329,11 @@ def _feature_stats(rows: pd.DataFrame, feature: str, kind: str) -> dict[str, obj
     if len(rows) < 2:
         return out
     s = fisher_stats(az, dip)
-    mean = pole_to_plane(s.mean_trend, s.mean_plunge) if kind == "plane" else (s.mean_trend, s.mean_plunge)
+    mean = (
+        pole_to_plane(s.mean_trend, s.mean_plunge)
+        if kind == "plane"
+        else (s.mean_trend, s.mean_plunge)
+    )
     shape = orientation_tensor(az, dip).shape
     out.update(
         {
@@ -343,8 +355,12 @@ def _flags(column: pd.Series) -> np.ndarray:
 def _complete(rows: pd.DataFrame) -> tuple[pd.DataFrame, int]:
     """Rows whose orientation columns for their kind are all finite, and how many were not."""
     planes = rows["kind"] == "plane"
-    ok_plane = np.isfinite(rows["dip_direction"].to_numpy(float)) & np.isfinite(rows["dip"].to_numpy(float))
-    ok_line = np.isfinite(rows["trend"].to_numpy(float)) & np.isfinite(rows["plunge"].to_numpy(float))
+    ok_plane = np.isfinite(rows["dip_direction"].to_numpy(float)) & np.isfinite(
+        rows["dip"].to_numpy(float)
+    )
+    ok_line = np.isfinite(rows["trend"].to_numpy(float)) & np.isfinite(
+        rows["plunge"].to_numpy(float)
+    )
     ok = np.where(planes.to_numpy(bool), ok_plane, ok_line)
     return rows[ok], int((~ok).sum())
 

@@ -31,10 +31,9 @@ from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_rake,
     normal_to_plane,
-    plane_to_pole,
     vector_to_line,
 )
-from thrustmap.stats import FEW, _eigen, _lines, _tensor
+from thrustmap.stats import FEW, _checked, _components, _dot, _eigen, _lines, _tensor
 
 __all__ = [
     "FoldFit",
@@ -168,7 +167,12 @@ def plunge_class(plunge: ArrayLike) -> NDArray[np.object_] | str:
     'gently plunging'
     """
     p = _check_dips(plunge, "plunges")
-    return _classify(p, lambda v: np.asarray(PLUNGE_CLASSES, dtype=object)[np.searchsorted(_DIP_LIMITS, v, side="right")])
+    return _classify(
+        p,
+        lambda v: np.asarray(PLUNGE_CLASSES, dtype=object)[
+            np.searchsorted(_DIP_LIMITS, v, side="right")
+        ],
+    )
 
 
 def axial_surface_class(
@@ -323,18 +327,10 @@ class FoldFit:
 
 
 def _planes(dip_direction: ArrayLike, dip: ArrayLike) -> Float:
-    dd = np.atleast_1d(np.asarray(dip_direction, dtype=float)).ravel()
-    d = np.atleast_1d(np.asarray(dip, dtype=float)).ravel()
-    bad = np.flatnonzero((d < 0) | (d > 90))
-    if bad.size:
-        raise InputError(
-            f"dip at position {int(bad[0])} is {d[bad[0]]!r}; dips must lie within 0-90 degrees",
-            field="dip",
-            value=float(d[bad[0]]),
-        )
-    if dd.shape != d.shape:
-        raise InputError(f"got {dd.size} dip directions and {d.size} dips; they must pair up")
-    return _lines(*plane_to_pole(dd, d), what="dip_direction/dip")
+    """Downward poles of planes as rows (3, N)."""
+    dd, d = _checked(dip_direction, dip, "dip_direction/dip", angle="dip", low=0.0)
+    # The pole trends opposite the dip direction and plunges 90 - dip.
+    return _components(dd + 180.0, 90.0 - d)
 
 
 def _bootstrap_cone(outer: Float, axis: Float, n_boot: int, seed: int) -> float:
@@ -362,25 +358,26 @@ def _bootstrap_cone(outer: Float, axis: Float, n_boot: int, seed: int) -> float:
     return float(np.percentile(angles, 95.0))
 
 
-def _split_limbs(a: Float, b: Float) -> NDArray[np.bool_]:
-    """Two groups of profile-plane directions (a, b): 2-means on the angle about their mean."""
-    ma, mb = a.sum(), b.sum()
-    if np.hypot(ma, mb) <= _DEGENERATE * a.size:
-        ma, mb = 1.0, 0.0
-    # Rotate so that the mean direction is angle 0.
-    c, s = a * ma + b * mb, b * ma - a * mb
-    psi = np.arctan2(s, c)
-    first = psi < 0.0
+def _split_limbs(psi: Float) -> float:
+    """Threshold splitting angles ``psi`` (radians) in two groups: 1-D 2-means from 0.
+
+    Lloyd iterations on the sorted angles: the threshold moves to the midpoint
+    of the two group means until the groups no longer change.
+    """
+    ordered = np.sort(psi)
+    cum = np.concatenate([[0.0], np.cumsum(ordered)])
+    n = ordered.size
+    threshold = 0.0
+    k = int(np.searchsorted(ordered, threshold))
     for _ in range(100):
-        if first.all() or not first.any():
+        if k in (0, n):
             break
-        mean1 = np.arctan2(s[first].sum(), c[first].sum())
-        mean2 = np.arctan2(s[~first].sum(), c[~first].sum())
-        new = psi < 0.5 * (mean1 + mean2)
-        if np.array_equal(new, first):
+        threshold = 0.5 * (cum[k] / k + (cum[-1] - cum[k]) / (n - k))
+        new = int(np.searchsorted(ordered, threshold))
+        if new == k:
             break
-        first = new
-    return first
+        k = new
+    return threshold
 
 
 def fit_fold(
@@ -443,7 +440,7 @@ def fit_fold(
         raise ParameterError(f"fit_fold: n_boot = {n_boot!r} must be a whole number >= 0")
     n_boot = int(n_boot)
     poles = _planes(dip_direction, dip)
-    n = poles.shape[0]
+    n = poles.shape[1]
     if n < FEW:
         warnings.warn(
             f"fit_fold: only {n} attitude(s); a fold fitted to fewer than {FEW} is unreliable",
@@ -471,41 +468,50 @@ def fit_fold(
 
     cone95 = float("nan")
     if n_boot:
-        outer = np.column_stack(
-            [poles[:, 0] ** 2, poles[:, 1] ** 2, poles[:, 2] ** 2,
-             poles[:, 0] * poles[:, 1], poles[:, 0] * poles[:, 2], poles[:, 1] * poles[:, 2]]
-        )
+        e, nn, u = poles
+        outer = np.column_stack([e * e, nn * nn, u * u, e * nn, e * u, nn * u])
         cone95 = _bootstrap_cone(outer, axis, n_boot, int(seed))
 
-    # Normals toward stratigraphic top, in the profile plane (e1, e2 span it).
-    tops = -poles
+    # Normals toward stratigraphic top (the reversed pole unless overturned), in
+    # coordinates (a, b) of the profile plane spanned by e1 and e2.
+    top = np.full(n, -1.0)
     if overturned is not None:
         flip = np.atleast_1d(np.asarray(overturned, dtype=bool)).ravel()
         if flip.shape != (n,):
             raise InputError(f"fit_fold: got {flip.size} overturned flags for {n} attitudes")
-        tops = np.where(flip[:, None], poles, tops)
+        top[flip] = 1.0
     u1 = vecs[:, 0]
     u2 = np.cross(axis, u1)
-    a, b = tops @ u1, tops @ u2
-    first = _split_limbs(a, b)
-    if first.all() or not first.any():
+    a = top * np.einsum("i,ij->j", u1, poles)
+    b = top * np.einsum("i,ij->j", u2, poles)
+    # Angles about the axis, from the mean direction of the normals.
+    sum_a, sum_b = float(a.sum()), float(b.sum())
+    ra, rb = (sum_a, sum_b) if np.hypot(sum_a, sum_b) > _DEGENERATE * n else (1.0, 0.0)
+    psi = np.arctan2(b * ra - a * rb, a * ra + b * rb)
+    first = (psi < _split_limbs(psi)).astype(float)
+    if int(first.sum()) in (0, n):
         raise DegenerateDataError(f"fit_fold: the {n} attitudes cannot be split into two limbs")
+    a1, b1 = _dot(a, first), _dot(b, first)
     limb_normals = []
-    for group in (first, ~first):
-        v = a[group].sum() * u1 + b[group].sum() * u2
+    for sa, sb in ((a1, b1), (sum_a - a1, sum_b - b1)):
+        v = sa * u1 + sb * u2
         limb_normals.append(v / np.linalg.norm(v))
     n1, n2 = limb_normals
     between = float(np.degrees(np.arccos(np.clip(n1 @ n2, -1.0, 1.0))))
     interlimb = 180.0 - between
     bisector = n1 - n2
     if np.linalg.norm(bisector) <= _DEGENERATE:
-        raise DegenerateDataError("fit_fold: the two limbs are parallel; the axial plane is undefined")
+        raise DegenerateDataError(
+            "fit_fold: the two limbs are parallel; the axial plane is undefined"
+        )
     ap_dd, ap_dip = (float(v) for v in normal_to_plane(bisector))
     rake = float(line_to_rake(ap_dd, ap_dip, axis_trend, axis_plunge))
     pitch = min(rake, 180.0 - rake)
     limbs = [tuple(float(v) for v in normal_to_plane(m)) for m in (n1, n2)]
 
-    hinge_n, h_trend, h_plunge, h_angle = _hinges(hinge_trend, hinge_plunge, axis_trend, axis_plunge)
+    hinge_n, h_trend, h_plunge, h_angle = _hinges(
+        hinge_trend, hinge_plunge, axis_trend, axis_plunge
+    )
     return FoldFit(
         n=n,
         axis_trend=axis_trend,
@@ -524,7 +530,7 @@ def fit_fold(
         hinge_pitch=pitch,
         limb_dip_direction=(limbs[0][0], limbs[1][0]),
         limb_dip=(limbs[0][1], limbs[1][1]),
-        limb_n=(int(first.sum()), int((~first).sum())),
+        limb_n=(int(first.sum()), n - int(first.sum())),
         hinge_n=hinge_n,
         hinge_trend=h_trend,
         hinge_plunge=h_plunge,
@@ -547,4 +553,4 @@ def _hinges(
     _, vecs = _eigen(_tensor(x))
     t, p = (float(v) for v in vector_to_line(vecs[:, 0]))
     angle = float(angle_between_lines(t, p, axis_trend, axis_plunge))
-    return x.shape[0], t, p, angle
+    return x.shape[1], t, p, angle

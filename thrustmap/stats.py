@@ -29,7 +29,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from thrustmap.errors import DegenerateDataError, InputError, ParameterError, ThrustmapWarning
-from thrustmap.orientation import line_to_vector, vector_to_line
+from thrustmap.orientation import vector_to_line
 
 __all__ = [
     "FisherStats",
@@ -59,14 +59,20 @@ _TREE_SUPPORT = 0.85
 _ZERO = 1e-12
 
 
-def _lines(trend: ArrayLike, plunge: ArrayLike, *, what: str = "trend/plunge") -> Float:
-    """Unit vectors (N, 3) of lines; NaN, mismatched shapes and empty input are errors."""
+def _checked(
+    trend: ArrayLike, plunge: ArrayLike, what: str, *, angle: str = "plunge", low: float = -90.0
+) -> tuple[Float, Float]:
+    """Flat float arrays of paired angles; NaN, mismatched shapes, empty input and
+    ``angle`` (the second array) outside [low, 90] degrees are errors."""
     t = np.atleast_1d(np.asarray(trend, dtype=float)).ravel()
     p = np.atleast_1d(np.asarray(plunge, dtype=float)).ravel()
     if t.shape != p.shape:
-        raise InputError(f"{what}: got {t.size} azimuths and {p.size} dips/plunges; they must pair up")
-    bad = np.flatnonzero(~(np.isfinite(t) & np.isfinite(p)))
-    if bad.size:
+        raise InputError(
+            f"{what}: got {t.size} azimuths and {p.size} dips/plunges; they must pair up"
+        )
+    finite = np.isfinite(t) & np.isfinite(p)
+    if not finite.all():
+        bad = np.flatnonzero(~finite)
         raise InputError(
             f"{what}: missing or non-finite value at position(s) {bad[:10].tolist()}; "
             "select complete measurements first",
@@ -74,12 +80,73 @@ def _lines(trend: ArrayLike, plunge: ArrayLike, *, what: str = "trend/plunge") -
         )
     if t.size == 0:
         raise DegenerateDataError(f"{what}: no measurements")
-    return line_to_vector(t, p)
+    bad = np.flatnonzero((p < low) | (p > 90.0))
+    if bad.size:
+        raise InputError(
+            f"{what}: {angle} at position {int(bad[0])} is {float(p[bad[0]])}; {angle}s lie "
+            f"within {low:g} to 90 degrees",
+            field=angle,
+            value=float(p[bad[0]]),
+        )
+    return t, p
 
 
-def _tensor(vectors: Float) -> Float:
-    """Normalised orientation tensor (1/N) sum x x^T of unit vectors (N, 3)."""
-    return (vectors.T @ vectors) / vectors.shape[0]
+def _components(trend: Float, plunge: Float) -> Float:
+    """Unit vectors as rows (3, N): east, north, up components of lines (degrees).
+
+    Plunges must lie within [-90, 90]. Each cosine comes from its sine as
+    sqrt((1 - s)(1 + s)), with the sign of the quadrant for the trend: half the
+    calls to the trigonometric functions that dominate the cost on large data,
+    in preallocated rows. Within 1e-13 of ``line_to_vector`` (at worst 1e-8
+    within 1e-6 degrees of a quarter turn).
+    """
+    n = trend.size
+    out = np.empty((3, n))
+    cos_p = np.empty(n)
+    aux = np.empty(n)
+    east, north, up = out
+
+    def cosine(sine: Float, result: Float) -> None:
+        np.subtract(1.0, sine, out=result)
+        np.add(1.0, sine, out=aux)
+        result *= aux
+        np.sqrt(result, out=result)
+
+    np.radians(plunge, out=up)
+    np.sin(up, out=up)
+    cosine(up, cos_p)
+    np.negative(up, out=up)
+    np.radians(trend, out=east)
+    np.sin(east, out=east)
+    cosine(east, north)
+    # The cosine is negative where the trend lies in the half turn (90, 270) mod 360.
+    np.multiply(trend, 1.0 / 360.0, out=aux)
+    aux += 0.25
+    aux -= np.floor(aux)
+    np.subtract(0.5, aux, out=aux)
+    np.copysign(north, aux, out=north)
+    east *= cos_p
+    north *= cos_p
+    return out
+
+
+def _lines(trend: ArrayLike, plunge: ArrayLike, *, what: str = "trend/plunge") -> Float:
+    """Unit vectors (3, N) of lines given in degrees, checked by :func:`_checked`."""
+    return _components(*_checked(trend, plunge, what))
+
+
+def _dot(a: Float, b: Float) -> float:
+    # einsum's own loop: single-threaded and faster than BLAS for long 1-D products.
+    return float(np.einsum("i,i->", a, b))
+
+
+def _tensor(x: Float) -> Float:
+    """Normalised orientation tensor (1/N) sum x x^T of unit vectors given as rows (3, N)."""
+    t = np.empty((3, 3))
+    for i in range(3):
+        for j in range(i, 3):
+            t[i, j] = t[j, i] = _dot(x[i], x[j])
+    return t / x.shape[1]
 
 
 def _eigen(tensor: Float) -> tuple[Float, Float]:
@@ -168,7 +235,7 @@ def fisher_stats(
     DegenerateDataError
         Fewer than 2 measurements.
     InputError
-        Missing values or arrays of different lengths.
+        Missing values, plunges outside -90 to 90 or arrays of different lengths.
     ParameterError
         ``conf`` outside (0, 1).
 
@@ -188,18 +255,17 @@ def fisher_stats(
     if not 0.0 < conf < 1.0:
         raise ParameterError(f"conf = {conf!r} must lie strictly between 0 and 1 (e.g. 0.95)")
     x = _lines(trend, plunge)
-    n = x.shape[0]
+    n = x.shape[1]
     if n < 2:
-        raise DegenerateDataError(
-            f"Fisher statistics need at least 2 measurements; got {n}"
-        )
+        raise DegenerateDataError(f"Fisher statistics need at least 2 measurements; got {n}")
     _warn_few(n, "fisher_stats")
     vals, vecs = _eigen(_tensor(x))
     if axial:
-        sign = np.where(x @ vecs[:, 0] < 0.0, -1.0, 1.0)
-        x = x * sign[:, None]
+        sign = np.where(vecs[:, 0] @ x < 0.0, -1.0, 1.0)
+        resultant = np.array([_dot(sign, x[0]), _dot(sign, x[1]), _dot(sign, x[2])])
+    else:
+        resultant = x.sum(axis=1)
     _warn_not_unimodal(vals, n)
-    resultant = x.sum(axis=0)
     r = min(float(np.linalg.norm(resultant)), float(n))
     k = float("inf") if n - r <= _ZERO * n else (n - 1.0) / (n - r)
     p = 1.0 - conf
@@ -366,7 +432,7 @@ def _tensor_from_vectors(x: Float) -> OrientationTensor:
     vals, vecs = _eigen(t)
     vecs = np.where(vecs[2] > 0, -vecs, vecs)
     trend, plunge = vector_to_line(vecs.T)
-    return OrientationTensor(t, vals / vals.sum(), vecs, trend, plunge, x.shape[0])
+    return OrientationTensor(t, vals / vals.sum(), vecs, trend, plunge, x.shape[1])
 
 
 def orientation_tensor(trend: ArrayLike, plunge: ArrayLike) -> OrientationTensor:
@@ -389,7 +455,7 @@ def orientation_tensor(trend: ArrayLike, plunge: ArrayLike) -> OrientationTensor
     DegenerateDataError
         No measurements.
     InputError
-        Missing values or arrays of different lengths.
+        Missing values, plunges outside -90 to 90 or arrays of different lengths.
 
     Warns
     -----
@@ -403,7 +469,7 @@ def orientation_tensor(trend: ArrayLike, plunge: ArrayLike) -> OrientationTensor
     90.0
     """
     x = _lines(trend, plunge)
-    _warn_few(x.shape[0], "orientation_tensor")
+    _warn_few(x.shape[1], "orientation_tensor")
     return _tensor_from_vectors(x)
 
 
@@ -479,13 +545,15 @@ def _counters(gridsize: int) -> tuple[Float, Float, Float]:
     bound = np.pi / 2.0
     lon, lat = np.mgrid[-bound : bound : gridsize * 1j, -bound : bound : gridsize * 1j]
     cl = np.cos(lat)
-    xyz = np.column_stack([(cl * np.cos(lon)).ravel(), (cl * np.sin(lon)).ravel(), np.sin(lat).ravel()])
+    xyz = np.column_stack(
+        [(cl * np.cos(lon)).ravel(), (cl * np.sin(lon)).ravel(), np.sin(lat).ravel()]
+    )
     return lon, lat, xyz
 
 
 def _to_stereonet(vectors: Float) -> Float:
-    """(east, north, up) unit vectors to mplstereonet's cartesian frame (-up, east, north)."""
-    return np.column_stack([-vectors[:, 2], vectors[:, 0], vectors[:, 1]])
+    """(east, north, up) unit vectors as rows (3, N) to mplstereonet's frame (-up, east, north), (N, 3)."""
+    return np.column_stack([-vectors[2], vectors[0], vectors[1]])
 
 
 def _kernel(method: str, n: int, sigma: float, w_max: float):
@@ -578,7 +646,7 @@ def density(
     DegenerateDataError
         No data.
     InputError
-        Missing values or arrays of different lengths.
+        Missing values, plunges outside -90 to 90 or arrays of different lengths.
 
     Examples
     --------

@@ -45,9 +45,21 @@ DENSITY_CMAP = LinearSegmentedColormap.from_list(
 )
 GIRDLE = {"color": "#2a6f77", "linewidth": 1.6, "linestyle": (0, (6, 3))}
 AXIAL_PLANE = {"color": "#8e2c62", "linewidth": 2.2}
-AXIS = {"marker": "*", "markersize": 17, "color": "#d1382c", "markeredgecolor": "white", "markeredgewidth": 1.0}
+AXIS = {
+    "marker": "*",
+    "markersize": 17,
+    "color": "#d1382c",
+    "markeredgecolor": "white",
+    "markeredgewidth": 1.0,
+}
 CONE = {"facecolor": "#d1382c", "edgecolor": "#d1382c", "alpha": 0.28, "linewidth": 1.0}
-HINGE = {"marker": "D", "markersize": 9, "color": "white", "markeredgecolor": "#111111", "markeredgewidth": 1.6}
+HINGE = {
+    "marker": "D",
+    "markersize": 9,
+    "color": "white",
+    "markeredgecolor": "#111111",
+    "markeredgewidth": 1.6,
+}
 
 #: Marker style per feature type (poles for planes, points for lines).
 FEATURE_STYLES: dict[str, dict[str, object]] = {
@@ -114,7 +126,9 @@ def plot_stereonet(
     fig = Figure(figsize=(6.0, 7.4), dpi=100, facecolor="white")
     ax = fig.add_axes((0.11, 0.262, 0.78, 0.632), projection="equal_area_stereonet")
     ax.grid(True, color="#c9ccd1", linewidth=0.5, alpha=0.7)
-    ax.set_azimuth_ticks([0, 90, 180, 270], labels=["N", "E", "S", "W"], fontsize=12, color=INK, fontweight="bold")
+    ax.set_azimuth_ticks(
+        [0, 90, 180, 270], labels=["N", "E", "S", "W"], fontsize=12, color=INK, fontweight="bold"
+    )
     for spine in ax.spines.values():
         spine.set_edgecolor(INK)
         spine.set_linewidth(1.4)
@@ -129,25 +143,52 @@ def plot_stereonet(
         style = FEATURE_STYLES.get(str(feature), _OTHER)
         # mplstereonet writes into its inputs: hand it copies.
         strike = dip_direction_to_strike(np.array(group["dip_direction"], dtype=float))
-        ax.pole(strike, np.array(group["dip"], dtype=float), linestyle="none", markeredgecolor="white",
-                markeredgewidth=0.5, zorder=4, **style)
+        ax.pole(
+            strike,
+            np.array(group["dip"], dtype=float),
+            linestyle="none",
+            markeredgecolor="white",
+            markeredgewidth=0.5,
+            zorder=4,
+            **style,
+        )
         handles.append(_handle(style, f"{_label(feature)} poles ({len(group)})"))
     for feature, group in lines.groupby("feature", sort=True):
         style = FEATURE_STYLES.get(str(feature), _OTHER)
-        ax.line(np.array(group["plunge"], dtype=float), np.array(group["trend"], dtype=float), linestyle="none",
-                markeredgecolor="white", markeredgewidth=0.5, zorder=4, **style)
+        ax.line(
+            np.array(group["plunge"], dtype=float),
+            np.array(group["trend"], dtype=float),
+            linestyle="none",
+            markeredgecolor="white",
+            markeredgewidth=0.5,
+            zorder=4,
+            **style,
+        )
         handles.append(_handle(style, f"{_label(feature)} ({len(group)})"))
 
     if fit is not None:
         handles.extend(_fold(ax, fit))
         _summary(fig, fit)
     if title:
-        fig.text(0.5, 0.982, title, ha="center", va="top", fontsize=15, fontweight="bold", color=INK)
-    fig.text(0.5, 0.948, "lower hemisphere, equal area", ha="center", va="top", fontsize=9, color=MUTED)
+        fig.text(
+            0.5, 0.982, title, ha="center", va="top", fontsize=15, fontweight="bold", color=INK
+        )
+    fig.text(
+        0.5, 0.948, "lower hemisphere, equal area", ha="center", va="top", fontsize=9, color=MUTED
+    )
     if handles:
-        fig.legend(handles=handles, loc="lower right", bbox_to_anchor=(0.985, 0.012), fontsize=7.5,
-                   frameon=False, handlelength=1.5, borderaxespad=0.2, labelcolor=INK,
-                   ncol=2 if len(handles) > 5 else 1, columnspacing=1.0)
+        fig.legend(
+            handles=handles,
+            loc="lower right",
+            bbox_to_anchor=(0.985, 0.012),
+            fontsize=7.5,
+            frameon=False,
+            handlelength=1.5,
+            borderaxespad=0.2,
+            labelcolor=INK,
+            ncol=2 if len(handles) > 5 else 1,
+            columnspacing=1.0,
+        )
     return fig
 
 
@@ -156,22 +197,36 @@ def _label(feature: object) -> str:
 
 
 def _handle(style: dict[str, object], label: str) -> Line2D:
-    return Line2D([], [], linestyle="none", markeredgecolor="white", markeredgewidth=0.5, label=label, **style)
+    return Line2D(
+        [], [], linestyle="none", markeredgecolor="white", markeredgewidth=0.5, label=label, **style
+    )
 
 
 def _density(ax, fig: Figure, planes: pd.DataFrame, sigma: float) -> None:
     if len(planes) < 3:
         return
-    trend, plunge = plane_to_pole(planes["dip_direction"].to_numpy(float), planes["dip"].to_numpy(float))
+    trend, plunge = plane_to_pole(
+        planes["dip_direction"].to_numpy(float), planes["dip"].to_numpy(float)
+    )
     grid = density(trend, plunge, sigma=sigma, gridsize=120)
     top = float(grid.values.max())
     if top <= 2.0:
         return
     step = 2.0 if top < 16 else float(np.ceil(top / 8.0))
     levels = np.arange(step, top + step, step)
-    filled = ax.contourf(grid.lon, grid.lat, grid.values, levels=levels, cmap=DENSITY_CMAP, zorder=1)
-    ax.contour(grid.lon, grid.lat, grid.values, levels=levels, colors="#7a4a2a", linewidths=0.45,
-               alpha=0.6, zorder=2)
+    filled = ax.contourf(
+        grid.lon, grid.lat, grid.values, levels=levels, cmap=DENSITY_CMAP, zorder=1
+    )
+    ax.contour(
+        grid.lon,
+        grid.lat,
+        grid.values,
+        levels=levels,
+        colors="#7a4a2a",
+        linewidths=0.45,
+        alpha=0.6,
+        zorder=2,
+    )
     cax = fig.add_axes((0.3, 0.19, 0.4, 0.012))
     bar = fig.colorbar(filled, cax=cax, orientation="horizontal")
     bar.set_label("pole density (multiples of \u03c3)", fontsize=8, color=INK, labelpad=2)
@@ -182,13 +237,25 @@ def _density(ax, fig: Figure, planes: pd.DataFrame, sigma: float) -> None:
 def _fold(ax, fit: FoldFit) -> list[Line2D]:
     girdle_strike = dip_direction_to_strike(fit.girdle_dip_direction)
     ax.plane(girdle_strike, fit.girdle_dip, zorder=3, **GIRDLE)
-    ax.plane(dip_direction_to_strike(fit.axial_plane_dip_direction), fit.axial_plane_dip, zorder=3, **AXIAL_PLANE)
+    ax.plane(
+        dip_direction_to_strike(fit.axial_plane_dip_direction),
+        fit.axial_plane_dip,
+        zorder=3,
+        **AXIAL_PLANE,
+    )
     handles = [
         Line2D([], [], label="\u03c0-girdle", **GIRDLE),
         Line2D([], [], label="axial plane", **AXIAL_PLANE),
     ]
     if np.isfinite(fit.cone95) and fit.cone95 > 0:
-        ax.cone(fit.axis_plunge, fit.axis_trend, min(fit.cone95, 89.0), bidirectional=True, zorder=5, **CONE)
+        ax.cone(
+            fit.axis_plunge,
+            fit.axis_trend,
+            min(fit.cone95, 89.0),
+            bidirectional=True,
+            zorder=5,
+            **CONE,
+        )
     ax.line(fit.axis_plunge, fit.axis_trend, zorder=6, **AXIS)
     handles.append(Line2D([], [], linestyle="none", label="fold axis + 95% cone", **AXIS))
     if fit.hinge_n:
@@ -207,12 +274,28 @@ def _summary(fig: Figure, fit: FoldFit) -> None:
             f"axial pl.  {fit.axial_plane_dip_direction:03.0f}/{fit.axial_plane_dip:02.0f}",
         ]
     )
-    fig.text(0.025, 0.022, text, ha="left", va="bottom", fontsize=9.5, family="DejaVu Sans Mono", color=INK,
-             linespacing=1.45,
-             bbox={"boxstyle": "round,pad=0.5", "facecolor": "#f6f7f9", "edgecolor": "#b9bec6", "linewidth": 0.8})
+    fig.text(
+        0.025,
+        0.022,
+        text,
+        ha="left",
+        va="bottom",
+        fontsize=9.5,
+        family="DejaVu Sans Mono",
+        color=INK,
+        linespacing=1.45,
+        bbox={
+            "boxstyle": "round,pad=0.5",
+            "facecolor": "#f6f7f9",
+            "edgecolor": "#b9bec6",
+            "linewidth": 0.8,
+        },
+    )
 
 
-def save_figure(fig: Figure, path: str | os.PathLike, *, overwrite: bool = False, dpi: int = 200) -> Path:
+def save_figure(
+    fig: Figure, path: str | os.PathLike, *, overwrite: bool = False, dpi: int = 200
+) -> Path:
     """Write a figure atomically (temporary file in the same folder, then rename).
 
     The format follows the suffix (``.png``, ``.svg``, ``.pdf``).
@@ -250,7 +333,12 @@ def save_figure(fig: Figure, path: str | os.PathLike, *, overwrite: bool = False
     fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}-", suffix=target.suffix, dir=target.parent)
     try:
         with os.fdopen(fd, "wb") as handle:
-            fig.savefig(handle, format=target.suffix.lstrip(".").lower(), dpi=dpi, facecolor=fig.get_facecolor())
+            fig.savefig(
+                handle,
+                format=target.suffix.lstrip(".").lower(),
+                dpi=dpi,
+                facecolor=fig.get_facecolor(),
+            )
         os.replace(tmp, target)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
@@ -301,6 +389,14 @@ def write_stereonet(
         An unknown format.
     OutputExistsError
         A file exists and ``overwrite`` is False.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> rows = pd.DataFrame({"feature": "bedding", "kind": "plane", "dip_direction": [90, 270],
+    ...     "dip": [30, 40], "trend": float("nan"), "plunge": float("nan")})
+    >>> [p.name for p in write_stereonet(rows, tempfile.mkdtemp(), "D1", formats=("svg",))]
+    ['stereonet_D1.svg']
     """
     bad = [f for f in formats if f not in ("png", "svg", "pdf")]
     if bad:
@@ -339,6 +435,19 @@ def write_domain_stereonets(
     ------
     OutputExistsError
         A file exists and ``overwrite`` is False.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> import geopandas as gpd
+    >>> from thrustmap.domains import domain_statistics
+    >>> att = gpd.GeoDataFrame({"feature": "bedding", "kind": "plane",
+    ...     "dip_direction": [90, 270, 95, 265, 85, 275], "dip": [30, 30, 40, 40, 20, 20],
+    ...     "trend": float("nan"), "plunge": float("nan")},
+    ...     geometry=gpd.points_from_xy(range(6), range(6)))
+    >>> res = domain_statistics(att, n_boot=0)
+    >>> [p.name for p in write_domain_stereonets(res, tempfile.mkdtemp(), formats=("png",))]
+    ['stereonet_all.png']
     """
     paths: list[Path] = []
     by_domain = dict(tuple(result.attitudes.groupby(DOMAIN_COLUMN, sort=False)))
@@ -346,6 +455,12 @@ def write_domain_stereonets(
         rows = by_domain.get(name, result.attitudes.iloc[0:0])
         fit = result.fits.get(name)
         paths += write_stereonet(
-            rows, folder, name, fit=fit, title=f"Domain {name}", formats=formats, overwrite=overwrite
+            rows,
+            folder,
+            name,
+            fit=fit,
+            title=f"Domain {name}",
+            formats=formats,
+            overwrite=overwrite,
         )
     return paths

@@ -9,7 +9,16 @@ from thrustmap.tools.declare import LayerInput, LayerOutput, Param, Tool
 
 __all__ = ["DOMAIN_STATISTICS", "ASSIGN_DOMAINS", "TOOLS"]
 
-_PLANE_FEATURES = ("bedding", "cleavage", "foliation", "fault", "thrust", "joint", "vein", "axial_plane")
+_PLANE_FEATURES = (
+    "bedding",
+    "cleavage",
+    "foliation",
+    "fault",
+    "thrust",
+    "joint",
+    "vein",
+    "axial_plane",
+)
 
 _ATTITUDES = LayerInput(
     "attitudes", "point", help="Attitude table (as read by read-attitudes), in the working CRS."
