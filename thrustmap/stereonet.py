@@ -139,39 +139,41 @@ def plot_stereonet(
     handles = []
     _density(ax, fig, planes[planes["feature"] == density_feature], sigma)
 
-    for feature, group in planes.groupby("feature", sort=True):
-        style = FEATURE_STYLES.get(str(feature), _OTHER)
-        # mplstereonet writes into its inputs: hand it copies.
-        strike = dip_direction_to_strike(np.array(group["dip_direction"], dtype=float))
-        ax.pole(
-            strike,
-            np.array(group["dip"], dtype=float),
-            linestyle="none",
-            markeredgecolor="white",
-            markeredgewidth=0.5,
-            zorder=4,
-            **style,
+    # Poles are drawn as the lines they are; mplstereonet writes into its inputs, so copies.
+    pole_trend, pole_plunge = plane_to_pole(
+        planes["dip_direction"].to_numpy(float), planes["dip"].to_numpy(float)
+    )
+    groups = [
+        (
+            f,
+            np.array(pole_plunge[planes["feature"].to_numpy() == f]),
+            np.array(pole_trend[planes["feature"].to_numpy() == f]),
+            " poles",
         )
-        handles.append(_handle(style, f"{_label(feature)} poles ({len(group)})"))
-    for feature, group in lines.groupby("feature", sort=True):
+        for f in sorted(planes["feature"].unique())
+    ] + [
+        (f, np.array(g["plunge"], dtype=float), np.array(g["trend"], dtype=float), "")
+        for f, g in lines.groupby("feature", sort=True)
+    ]
+    for feature, plunge, trend, suffix in groups:
         style = FEATURE_STYLES.get(str(feature), _OTHER)
         ax.line(
-            np.array(group["plunge"], dtype=float),
-            np.array(group["trend"], dtype=float),
+            plunge,
+            trend,
             linestyle="none",
             markeredgecolor="white",
             markeredgewidth=0.5,
             zorder=4,
             **style,
         )
-        handles.append(_handle(style, f"{_label(feature)} ({len(group)})"))
+        handles.append(_handle(style, f"{_label(feature)}{suffix} ({plunge.size})"))
 
     if fit is not None:
         handles.extend(_fold(ax, fit))
         _summary(fig, fit)
     if title:
         fig.text(
-            0.5, 0.982, title, ha="center", va="top", fontsize=15, fontweight="bold", color=INK
+            0.5, 0.982, title, ha="center", va="top", fontsize=16, fontweight="bold", color=INK
         )
     fig.text(
         0.5, 0.948, "lower hemisphere, equal area", ha="center", va="top", fontsize=9, color=MUTED
@@ -259,7 +261,7 @@ def _fold(ax, fit: FoldFit) -> list[Line2D]:
     ax.line(fit.axis_plunge, fit.axis_trend, zorder=6, **AXIS)
     handles.append(Line2D([], [], linestyle="none", label="fold axis + 95% cone", **AXIS))
     if fit.hinge_n:
-        ax.line(fit.hinge_plunge, fit.hinge_trend, zorder=6, **HINGE)
+        ax.line(fit.hinge_plunge, fit.hinge_trend, zorder=5.5, **HINGE)
         handles.append(Line2D([], [], linestyle="none", label="mean hinge line", **HINGE))
     return handles
 
@@ -280,7 +282,7 @@ def _summary(fig: Figure, fit: FoldFit) -> None:
         text,
         ha="left",
         va="bottom",
-        fontsize=9.5,
+        fontsize=10.5,
         family="DejaVu Sans Mono",
         color=INK,
         linespacing=1.45,
