@@ -441,6 +441,11 @@ def fit_fold(
     n_boot = int(n_boot)
     poles = _planes(dip_direction, dip)
     n = poles.shape[1]
+    flip = np.zeros(n, dtype=bool)
+    if overturned is not None:
+        flip = np.atleast_1d(np.asarray(overturned, dtype=bool)).ravel()
+        if flip.shape != (n,):
+            raise InputError(f"fit_fold: got {flip.size} overturned flags for {n} attitudes")
     if n < FEW:
         warnings.warn(
             f"fit_fold: only {n} attitude(s); a fold fitted to fewer than {FEW} is unreliable",
@@ -475,11 +480,7 @@ def fit_fold(
     # Normals toward stratigraphic top (the reversed pole unless overturned), in
     # coordinates (a, b) of the profile plane spanned by e1 and e2.
     top = np.full(n, -1.0)
-    if overturned is not None:
-        flip = np.atleast_1d(np.asarray(overturned, dtype=bool)).ravel()
-        if flip.shape != (n,):
-            raise InputError(f"fit_fold: got {flip.size} overturned flags for {n} attitudes")
-        top[flip] = 1.0
+    top[flip] = 1.0
     u1 = vecs[:, 0]
     u2 = np.cross(axis, u1)
     a = top * np.einsum("i,ij->j", u1, poles)

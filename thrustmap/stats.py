@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -42,6 +43,9 @@ __all__ = [
     "fabric_shape",
     "density",
 ]
+
+if TYPE_CHECKING:
+    import geopandas as gpd
 
 Float = NDArray[np.float64]
 
@@ -511,7 +515,7 @@ class DensityGrid:
     sigma: float
     n: int
 
-    def contour_polygons(self, levels: ArrayLike):
+    def contour_polygons(self, levels: ArrayLike) -> gpd.GeoDataFrame:
         """Filled contour bands as polygons on the unit equal-area net.
 
         Parameters
@@ -702,7 +706,8 @@ def density(
     )
 
 
-def _contour_polygons(grid: DensityGrid, levels: ArrayLike):
+def _contour_polygons(grid: DensityGrid, levels: ArrayLike) -> gpd.GeoDataFrame:
+    # Imported here: the statistics themselves need only numpy.
     import contourpy
     import geopandas as gpd
     import shapely
