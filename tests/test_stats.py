@@ -280,3 +280,16 @@ def test_fast_components_close_everywhere(trend, plunge):
 def test_plunge_range_checked():
     with pytest.raises(InputError, match="plunge at position 1 is 95.0.*-90 to 90"):
         stats.fisher_stats([10, 20, 30], [10, 95, 20])
+
+
+def test_mean_plane_matches_fit_pole_example():
+    # mplstereonet.fit_pole([270, 65, 280, 300], [20, 15, 10, 5]) -> (296.4826, 5.9629)
+    # (shared REFERENCES.md): the plane whose pole is the S1 eigenvector of the poles.
+    from thrustmap.orientation import plane_to_pole, pole_to_plane, strike_to_dip_direction
+
+    poles = plane_to_pole(strike_to_dip_direction([270, 65, 280, 300]), [20, 15, 10, 5])
+    with pytest.warns(ThrustmapWarning, match="only 4"):
+        t = stats.orientation_tensor(*poles)
+    dd, dip = pole_to_plane(t.trend[0], t.plunge[0])
+    assert (float(dd) - 90) % 360 == pytest.approx(296.4826, abs=1e-4)
+    assert float(dip) == pytest.approx(5.9629, abs=1e-4)

@@ -7,7 +7,7 @@ import pytest
 from tests.test_domains import attitudes, fold_rows, two_domains
 from thrustmap.domains import domain_statistics
 from thrustmap.errors import ParameterError
-from thrustmap.tools.declare import Tool
+from thrustmap.tools import Tool
 from thrustmap.tools.structure import TOOLS
 
 

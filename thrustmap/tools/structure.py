@@ -5,7 +5,7 @@ from __future__ import annotations
 import geopandas as gpd
 
 from thrustmap.domains import domain_statistics, domains_from_attribute, domains_from_polygons
-from thrustmap.tools.declare import LayerInput, LayerOutput, Param, Tool
+from thrustmap.tools import LayerInput, LayerOutput, Param, Tool
 
 __all__ = ["DOMAIN_STATISTICS", "ASSIGN_DOMAINS", "TOOLS"]
 
