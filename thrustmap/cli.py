@@ -81,7 +81,12 @@ def _describe_param(p: Param) -> str:
         parts.append(f"range {low}..{high}")
     if p.default is not None:
         parts.append(f"default {p.default}")
-    return "; ".join(parts)
+    return _escape("; ".join(parts))
+
+
+def _escape(text: str) -> str:
+    """Help text with ``%`` doubled, as argparse expands help strings with ``%``."""
+    return text.replace("%", "%%")
 
 
 def _metavar(p: Param) -> str | None:
@@ -133,14 +138,14 @@ def _add_tool_parser(subparsers: Any, tool: Tool) -> argparse.ArgumentParser:
         )
     parser = subparsers.add_parser(
         tool.name,
-        help=tool.summary,
+        help=_escape(tool.summary),
         description="\n".join(lines),
         epilog=_example_line(tool),
         formatter_class=argparse.RawDescriptionHelpFormatter,
         allow_abbrev=False,
     )
     for i in tool.inputs:
-        text = f"{i.help.rstrip('.')} ({i.geometry}; FILE or FILE:LAYER)".strip()
+        text = _escape(f"{i.help.rstrip('.')} ({i.geometry}; FILE or FILE:LAYER)".strip())
         if i.optional:
             parser.add_argument(
                 _flag(i.name), dest=f"in:{i.name}", metavar=i.name.upper(), help=text

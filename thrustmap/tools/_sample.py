@@ -6,7 +6,7 @@ from pathlib import Path
 
 from thrustmap.errors import SourceNotFoundError
 
-__all__ = ["SAMPLE", "SCENARIO", "scenario", "sample_file"]
+__all__ = ["SAMPLE", "SCENARIO", "scenario", "sample_file", "sample_attitudes"]
 
 # The worked examples read the bundled synthetic scenario of a source checkout.
 SAMPLE = Path(__file__).resolve().parents[2] / "sample_gis"
@@ -27,3 +27,10 @@ def sample_file(name: str) -> Path:
 def scenario(layer: str) -> str:
     """``path:layer`` source of a layer of the scenario GeoPackage."""
     return f"{sample_file(SCENARIO.name)}:{layer}"
+
+
+def sample_attitudes():
+    """The scenario's station attitudes as :func:`thrustmap.read_attitudes` accepts them."""
+    from thrustmap.io.attitudes import read_attitudes
+
+    return read_attitudes(str(SCENARIO), layer="stations").accepted

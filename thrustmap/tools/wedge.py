@@ -18,7 +18,6 @@ import shapely
 
 from thrustmap.errors import InputError, ParameterError
 from thrustmap.figures import figure_writer
-from thrustmap.orientation import strike_to_dip_direction
 from thrustmap.profiles import plot_profiles, sample_profiles, surface_profiles, transport_lines
 from thrustmap.sections import (
     _true_to_grid,
@@ -27,7 +26,7 @@ from thrustmap.sections import (
     plot_down_plunge,
     plot_section,
 )
-from thrustmap.tools._sample import SAMPLE, scenario
+from thrustmap.tools._sample import SAMPLE, sample_attitudes, scenario
 from thrustmap.tools.declare import Example, FileOutput, LayerInput, LayerOutput, Param, Tool
 from thrustmap.wedge import (
     METHODS,
@@ -261,33 +260,6 @@ _SAMPLE_ELEVATION = str(SAMPLE / "elevation.asc")
 _TRANSPORT_GRID = 20.0  # the scenario's transport azimuth, grid north
 
 
-def _example_attitudes() -> gpd.GeoDataFrame:
-    """The scenario's stations as an attitude table with grid-north columns (as the reader makes)."""
-    source, layer = scenario("stations").rsplit(":", 1)
-    st = gpd.read_file(source, layer=layer, engine="pyogrio")
-    xy = shapely.get_coordinates(np.asarray(st.geometry.values))
-    strike = pd.to_numeric(st["strike"], errors="coerce").to_numpy(float)
-    trend = pd.to_numeric(st["trend"], errors="coerce").to_numpy(float)
-    dip_direction = strike_to_dip_direction(strike)
-    dd_grid, _ = _true_to_grid(dip_direction, xy, st.crs)
-    north_grid, _ = _true_to_grid(np.zeros(len(st)), xy, st.crs)
-    return gpd.GeoDataFrame(
-        {
-            "source_row": np.arange(1, len(st) + 1),
-            "station": st["station_id"].astype(str),
-            "feature": st["feature"].astype(str),
-            "kind": np.where(np.isfinite(strike), "plane", "line"),
-            "dip_direction": dip_direction, "dip": pd.to_numeric(st["dip"], errors="coerce"),
-            "strike": strike, "trend": trend, "plunge": pd.to_numeric(st["plunge"], errors="coerce"),
-            "azimuth_ref": "true",
-            "dip_direction_grid": dd_grid,
-            "trend_grid": _true_to_grid(trend, xy, st.crs)[0],
-            "convergence": (-north_grid + 180.0) % 360.0 - 180.0,
-        },
-        geometry=st.geometry.values, crs=st.crs,
-    )
-
-
 def _profiles_example(folder: Path) -> dict[str, str]:
     return {"study_area": scenario("study_area"), "thrust_traces": scenario("thrust_traces")}
 
@@ -301,12 +273,12 @@ def _section_example(folder: Path) -> dict[str, Any]:
     centre, u = np.array([715000.0, 5095000.0]), np.array([np.sin(a), np.cos(a)])
     line = gpd.GeoDataFrame({"section_id": ["A"]}, geometry=[shapely.LineString([centre - 14000 * u,
                                                                                 centre + 14000 * u])],
-                            crs=_example_attitudes().crs)
-    return {"attitudes": _example_attitudes(), "section_line": line, "thrust_traces": scenario("thrust_traces")}
+                            crs=sample_attitudes().crs)
+    return {"attitudes": sample_attitudes(), "section_line": line, "thrust_traces": scenario("thrust_traces")}
 
 
 def _down_plunge_example(folder: Path) -> dict[str, Any]:
-    return {"attitudes": _example_attitudes(), "domains": scenario("domains")}
+    return {"attitudes": sample_attitudes(), "domains": scenario("domains")}
 
 
 _ELEVATION = Param("elevation", "str", None, "Elevation grid: path of an ESRI ASCII grid (.asc, with its .prj) "
