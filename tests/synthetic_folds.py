@@ -10,13 +10,16 @@ from scipy import stats as sps
 from thrustmap.orientation import line_to_vector, normal_to_plane
 
 
-def synthetic_fold(seed, *, n=80, kappa=150.0, interlimb=None):
+def synthetic_fold(seed, *, n=80, kappa=150.0, interlimb=None, limb_share=0.5, hinge_share=0.0):
     """A cylindrical fold with Fisher noise: bedding, overturned flags and the truth.
 
     The axis is drawn at random (plunge 0-50); the two limbs' top normals lie
     in the profile plane at +-(180 - interlimb)/2 from the hinge normal, with a
     small symmetric spread along the girdle, and each normal is perturbed by
-    von Mises-Fisher noise of precision kappa.
+    von Mises-Fisher noise of precision kappa. ``limb_share`` of the limb
+    attitudes lie on the + limb (interleaved evenly); a fraction ``hinge_share`` of
+    all attitudes (the last ones) come from the hinge zone instead, their
+    normals spread uniformly between the limbs.
     """
     rng = np.random.default_rng(seed)
     trend, plunge = rng.uniform(0, 360), rng.uniform(0, 50)
@@ -27,11 +30,17 @@ def synthetic_fold(seed, *, n=80, kappa=150.0, interlimb=None):
     hinge /= np.linalg.norm(hinge)
     side = np.cross(axis, hinge)
     half = np.radians((180.0 - interlimb) / 2)
-    limb = np.where(np.arange(n) % 2 == 0, 1.0, -1.0)
+    i = np.arange(n)
+    limb = np.where(
+        np.floor((i + 1) * (1 - limb_share)) > np.floor(i * (1 - limb_share)), -1.0, 1.0
+    )
     psi = limb * half + np.radians(rng.uniform(-4, 4, n))
-    normals = np.cos(psi)[:, None] * hinge + np.sin(psi)[:, None] * side
     # Fisher noise about the vertical, turned onto each normal (isotropic about it).
     z = sps.vonmises_fisher([0.0, 0.0, 1.0], kappa).rvs(n, random_state=rng)
+    n_hinge = int(round(hinge_share * n))
+    if n_hinge:
+        psi[n - n_hinge :] = rng.uniform(-half, half, n_hinge)
+    normals = np.cos(psi)[:, None] * hinge + np.sin(psi)[:, None] * side
     e1 = np.cross(normals, [0.3, 0.5, 0.8])
     e1 /= np.linalg.norm(e1, axis=1)[:, None]
     e2 = np.cross(normals, e1)

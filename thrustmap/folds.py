@@ -6,13 +6,42 @@ orientation tensor. Its uncertainty comes from a seeded bootstrap. The two
 limbs are found along the girdle from the bedding normals oriented toward
 stratigraphic top (upward, reversed for overturned beds), which tells an open
 fold from a tight one; the interlimb angle is 180 degrees minus the angle
-between the limbs' mean normals, and the axial plane contains the axis and
-bisects the limbs.
+between the limbs' normals, and the axial plane contains the axis and bisects
+the limbs.
+
+Limb attitudes are modes, not means. Each top normal has an angle about the
+axis; the limbs are the two clusters of these angles, and attitudes from the
+hinge zone fill the arc between them. A plain mean of each limb's group takes
+those hinge attitudes in and draws the two limbs toward each other, so the
+interlimb angle comes out too large (by 5-9 degrees for chevron-like folds with
+about 11 % of the attitudes in the hinge zone and Fisher noise of kappa 50;
+by far more when a limb is thinly sampled). The angles are therefore first cut
+in two by the exact 1-D 2-means split (Fisher 1958; no starting value can trap
+it), and each limb's angle is then the mode of its group: the fixed point of
+mean shift with a flat kernel (Fukunaga & Hostetler 1975; Cheng 1995), that
+is, the mean of the group's angles within a window about itself. The window
+half-width is twice the robust spread of the limbs (1.4826 x the median
+absolute deviation from each limb's median, pooled; at least 1 degree), so
+that it holds about 95 % of a limb's own scatter but only the hinge attitudes
+closest to the limb. The search starts where the window holds the most
+angles, and the groups are re-split at the bisector of the two modes until
+the split is stable. Without a hinge zone and with symmetric scatter the mode
+and the mean estimate the same angle; the mode's variance is then about 1.3
+times the mean's under normal scatter (by simulation), the price of ignoring
+the hinge. The angles are sorted once and every later step is a binary search
+on them, so one sort dominates the cost.
 
 References
 ----------
+Cheng, Y. (1995). Mean shift, mode seeking, and clustering. IEEE Trans. Pattern
+Anal. Mach. Intell. 17, 790-799.
+Fisher, W. D. (1958). On grouping for maximum homogeneity. J. Am. Stat. Assoc.
+53, 789-798.
 Fleuty, M. J. (1964). The description of folds. Proc. Geol. Assoc. 75, 461-492
 (classes as tabulated in Lisle, Geological Structures and Maps).
+Fukunaga, K. & Hostetler, L. D. (1975). The estimation of the gradient of a
+density function, with applications in pattern recognition. IEEE Trans. Inf.
+Theory 21, 32-40.
 Woodcock, N. H. (1977). Specification of fabric shapes using an eigenvalue method.
 GSA Bulletin 88, 1231-1236.
 """
@@ -33,7 +62,7 @@ from thrustmap.orientation import (
     normal_to_plane,
     vector_to_line,
 )
-from thrustmap.stats import FEW, _checked, _components, _dot, _eigen, _lines, _tensor
+from thrustmap.stats import FEW, _checked, _components, _eigen, _lines, _tensor
 
 __all__ = [
     "FoldFit",
@@ -80,6 +109,18 @@ _DIP_LIMITS = (10.0, 30.0, 60.0, 80.0)
 # surface makes the fold reclined (hinge plunging down the axial-surface dip).
 _RECLINED_PITCH = 80.0
 _BOOT_CHUNK = 4_000_000
+# Limb modes (module notes): the sigma of a median absolute deviation under normal
+# scatter (common practice); the narrowest window, about the reading precision of
+# a compass-clinometer (common practice); the most start positions tried per
+# limb; bisection steps for the spread; caps on the mean-shift steps and on
+# re-splitting at the bisector (both settle in a few steps).
+_MAD_SIGMA = 1.4826
+_MAX_GRID = 4096
+_BISECTIONS = 60
+_MIN_WINDOW = np.radians(1.0)
+_MAX_SHIFTS = 100
+_MAX_SPLITS = 20
+_SHIFT_TOLERANCE = 1e-12
 _DEGENERATE = 1e-10
 
 
@@ -250,8 +291,9 @@ class FoldFit:
     girdle_dip_direction, girdle_dip : float
         The best-fit pi-girdle as a plane (its pole is the axis).
     interlimb_angle : float
-        180 minus the angle between the mean normals of the two limbs, both
-        oriented toward stratigraphic top and projected on the profile plane.
+        180 minus the angle between the modal normals of the two limbs (see
+        the module notes), both oriented toward stratigraphic top and
+        projected on the profile plane.
     tightness : str
         Fleuty (1964) class of the interlimb angle, see :func:`tightness_class`.
     plunge_class : str
@@ -263,9 +305,10 @@ class FoldFit:
     hinge_pitch : float
         Pitch of the axis in the axial plane, 0-90 from its strike.
     limb_dip_direction, limb_dip : tuple of float
-        Mean attitude of each limb (a plane containing the axis).
+        Modal attitude of each limb (a plane containing the axis).
     limb_n : tuple of int
-        Attitudes assigned to each limb.
+        Attitudes on each side of the bisector of the two limbs (hinge-zone
+        attitudes go to the nearer limb).
     hinge_n : int
         Number of measured hinge lines given (0 when none).
     hinge_trend, hinge_plunge : float
@@ -358,26 +401,78 @@ def _bootstrap_cone(outer: Float, axis: Float, n_boot: int, seed: int) -> float:
     return float(np.percentile(angles, 95.0))
 
 
-def _split_limbs(psi: Float) -> float:
-    """Threshold splitting angles ``psi`` (radians) in two groups: 1-D 2-means from 0.
+def _first_cut(ordered: Float, cum: Float) -> int:
+    """Size of the lower group of the best split of sorted angles in two: exact 1-D 2-means.
 
-    Lloyd iterations on the sorted angles: the threshold moves to the midpoint
-    of the two group means until the groups no longer change.
+    The split maximising the between-group sum of squares, ``S1**2 / n1 +
+    S2**2 / n2`` over every gap between distinct values (Fisher 1958), so no
+    starting point can trap it in a local optimum. 0 when all values are equal.
     """
-    ordered = np.sort(psi)
-    cum = np.concatenate([[0.0], np.cumsum(ordered)])
     n = ordered.size
-    threshold = 0.0
-    k = int(np.searchsorted(ordered, threshold))
-    for _ in range(100):
-        if k in (0, n):
+    k = np.flatnonzero(np.diff(ordered) > 0) + 1
+    if not k.size:
+        return 0
+    low = cum[k]
+    score = low * low / k + (cum[-1] - low) ** 2 / (n - k)
+    return int(k[np.argmax(score)])
+
+
+def _pooled_mad(ordered: Float, lo: NDArray[np.intp], hi: NDArray[np.intp], centre: Float) -> float:
+    """Median absolute deviation of sorted angles from their group's centre, pooled.
+
+    Groups are the slices ``lo[g]:hi[g]`` of ``ordered``. The lower median of
+    the deviations is found by bisection on the count of angles within ``d``
+    of their centre (binary searches on the sorted angles, no sorting again).
+    """
+    half = (ordered.size + 1) // 2
+    low, high = 0.0, float(ordered[-1] - ordered[0])
+    for _ in range(_BISECTIONS):
+        d = 0.5 * (low + high)
+        inside = np.sum(
+            np.clip(np.searchsorted(ordered, centre + d, side="right"), lo, hi)
+            - np.clip(np.searchsorted(ordered, centre - d, side="left"), lo, hi)
+        )
+        low, high = (low, d) if inside >= half else (d, high)
+    return high
+
+
+def _limb_modes(ordered: Float, cum: Float, k: int) -> tuple[Float, int]:
+    """Modal angle of each limb (radians) and the size of the lower limb, from sorted angles.
+
+    The limbs start as the two groups of the first cut (the lower ``k``
+    angles and the rest). The window half-width is twice the pooled robust
+    spread of the limbs (1.4826 times the median absolute deviation from each
+    limb's median), at least :data:`_MIN_WINDOW`. Each limb's angle is the
+    fixed point of mean shift with a flat kernel over that limb's angles (the
+    mean of its angles within the window about itself), started from the
+    window position holding most of them. The limbs are then split again at
+    the bisector of the two modes, until the split no longer changes.
+    """
+    n = ordered.size
+    for _ in range(_MAX_SPLITS):
+        lo, hi = np.array([0, k]), np.array([k, n])
+        median = 0.5 * (ordered[lo + (hi - lo - 1) // 2] + ordered[hi - 1 - (hi - lo - 1) // 2])
+        window = max(2.0 * _MAD_SIGMA * _pooled_mad(ordered, lo, hi, median), _MIN_WINDOW)
+        mode = np.empty(2)
+        for g in range(2):
+            low, high = ordered[lo[g]], ordered[hi[g] - 1]
+            grid = np.linspace(low, high, min(int((high - low) / (0.25 * window)) + 1, _MAX_GRID))
+            counts = np.searchsorted(ordered[lo[g] : hi[g]], grid + window, side="right")
+            counts -= np.searchsorted(ordered[lo[g] : hi[g]], grid - window, side="left")
+            mode[g] = grid[np.argmax(counts)]
+        for _ in range(_MAX_SHIFTS):
+            i = np.clip(np.searchsorted(ordered, mode - window, side="left"), lo, hi)
+            j = np.clip(np.searchsorted(ordered, mode + window, side="right"), lo, hi)
+            shifted = (cum[j] - cum[i]) / (j - i)
+            done = np.all(np.abs(shifted - mode) <= _SHIFT_TOLERANCE)
+            mode = shifted
+            if done:
+                break
+        split = int(np.searchsorted(ordered, 0.5 * (mode[0] + mode[1]), side="left"))
+        if split == k:
             break
-        threshold = 0.5 * (cum[k] / k + (cum[-1] - cum[k]) / (n - k))
-        new = int(np.searchsorted(ordered, threshold))
-        if new == k:
-            break
-        k = new
-    return threshold
+        k = split
+    return mode, k
 
 
 def fit_fold(
@@ -434,7 +529,7 @@ def fit_fold(
     --------
     >>> fit = fit_fold([120, 240, 110, 250, 100, 260, 180], [20, 20, 25, 25, 15, 15, 10])
     >>> round(fit.axis_trend), round(fit.axis_plunge), round(fit.interlimb_angle), fit.tightness
-    (180, 8, 148, 'gentle')
+    (180, 8, 143, 'gentle')
     """
     if int(n_boot) != n_boot or n_boot < 0:
         raise ParameterError(f"fit_fold: n_boot = {n_boot!r} must be a whole number >= 0")
@@ -487,17 +582,15 @@ def fit_fold(
     b = top * np.einsum("i,ij->j", u2, poles)
     # Angles about the axis, from the mean direction of the normals.
     sum_a, sum_b = float(a.sum()), float(b.sum())
-    ra, rb = (sum_a, sum_b) if np.hypot(sum_a, sum_b) > _DEGENERATE * n else (1.0, 0.0)
-    psi = np.arctan2(b * ra - a * rb, a * ra + b * rb)
-    first = (psi < _split_limbs(psi)).astype(float)
-    if int(first.sum()) in (0, n):
+    ref = float(np.arctan2(sum_b, sum_a)) if np.hypot(sum_a, sum_b) > _DEGENERATE * n else 0.0
+    c, s = np.cos(ref), np.sin(ref)
+    ordered = np.sort(np.arctan2(b * c - a * s, a * c + b * s))
+    cum = np.concatenate([[0.0], np.cumsum(ordered)])
+    k = _first_cut(ordered, cum)
+    if k == 0:
         raise DegenerateDataError(f"fit_fold: the {n} attitudes cannot be split into two limbs")
-    a1, b1 = _dot(a, first), _dot(b, first)
-    limb_normals = []
-    for sa, sb in ((a1, b1), (sum_a - a1, sum_b - b1)):
-        v = sa * u1 + sb * u2
-        limb_normals.append(v / np.linalg.norm(v))
-    n1, n2 = limb_normals
+    mode, k = _limb_modes(ordered, cum, k)
+    n1, n2 = (np.cos(ref + m) * u1 + np.sin(ref + m) * u2 for m in mode)
     between = float(np.degrees(np.arccos(np.clip(n1 @ n2, -1.0, 1.0))))
     interlimb = 180.0 - between
     bisector = n1 - n2
@@ -531,7 +624,7 @@ def fit_fold(
         hinge_pitch=pitch,
         limb_dip_direction=(limbs[0][0], limbs[1][0]),
         limb_dip=(limbs[0][1], limbs[1][1]),
-        limb_n=(int(first.sum()), n - int(first.sum())),
+        limb_n=(k, n - k),
         hinge_n=hinge_n,
         hinge_trend=h_trend,
         hinge_plunge=h_plunge,
