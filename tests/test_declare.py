@@ -55,6 +55,21 @@ def test_param_rejects_with_a_message_naming_it(param, value, message):
         param.validate(value, tool="t")
 
 
+def test_file_param_takes_an_existing_file(tmp_path, monkeypatch):
+    grid = Param("grid", "file")
+    (tmp_path / "dem.asc").write_text("ncols 1\n")
+    monkeypatch.chdir(tmp_path)
+    assert grid.validate("dem.asc") == "dem.asc"
+    assert grid.validate(tmp_path / "dem.asc") == str(tmp_path / "dem.asc")  # os.PathLike
+    message = r"t: parameter 'grid' = 'dem.tif': no such file \(relative"
+    with pytest.raises(ParameterError, match=message):
+        grid.validate("dem.tif", tool="t")
+    with pytest.raises(ParameterError, match="no such file"):
+        grid.validate(str(tmp_path))  # a folder is not a file
+    with pytest.raises(ParameterError, match="must be of type file"):
+        grid.validate(3)
+
+
 def test_param_declaration_errors():
     with pytest.raises(ValueError, match="type 'double'"):
         Param("x", "double")

@@ -1,10 +1,12 @@
 """TOML pipeline: the demo project, validation with line numbers, filling shared parameters, outputs."""
 
+import json
 import re
 import shutil
 from pathlib import Path
 
 import geopandas as gpd
+import numpy as np
 import pandas as pd
 import pyogrio
 import pytest
@@ -12,9 +14,11 @@ import shapely
 
 from thrustmap.cli import main
 from thrustmap.errors import InputError, OutputExistsError, SourceNotFoundError
+from thrustmap.io.grid import Grid, write_ascii_grid
 from thrustmap.pipeline import PROVENANCE_LAYER, key_line, load_project, run_project
 
 ROOT = Path(__file__).resolve().parents[1]
+CRS = "EPSG:32633"
 
 # Columns of sample_gis/field_sheet.csv fixed by CONTRACT.md.
 FIELD_SHEET_COLUMNS = ["stn", "lon", "lat", "type", "attitude", "date", "notes"]
@@ -72,6 +76,57 @@ def test_demo_equals_run_of_the_project(demo_dir, monkeypatch, capsys):
             )
         pd.testing.assert_frame_equal(a, b)
     assert "thrustmap.gpkg: layer provenance" in capsys.readouterr().out
+
+
+def _profile_project(folder, elevation):
+    """A project with a file parameter: surface profiles over a planar grid beside it."""
+    x0, y0, cell = 720000.0, 5095000.0, 100.0
+    x = x0 + (np.arange(80) + 0.5) * cell
+    values = np.tile(2000.0 - (x - x0) * np.tan(np.radians(2.5)), (80, 1))
+    (folder / "grids").mkdir(parents=True)
+    write_ascii_grid(folder / "grids" / "dem.asc", Grid(values, x0=x0, y0=y0, cell=cell, crs=CRS))
+    area = gpd.GeoDataFrame(
+        {"name": ["area"]},
+        geometry=[shapely.box(x0 + 500, y0 - 7500, x0 + 7500, y0 - 500)],
+        crs=CRS,
+    )
+    pyogrio.write_dataframe(area, folder / "layers.gpkg", layer="area")
+    path = folder / "project.toml"
+    lines = [
+        "[project]",  # 1
+        f'crs = "{CRS}"',  # 2
+        "[inputs.area]",  # 3
+        'path = "layers.gpkg"',  # 4
+        'layer = "area"',  # 5
+        "[[steps]]",  # 6
+        'tool = "surface-profiles"',  # 7
+        'inputs = { study_area = "area" }',  # 8
+        f'params = {{ elevation = "{elevation}", azimuth = 90.0, spacing = 2000.0 }}',  # 9
+    ]
+    path.write_text("\n".join(lines) + "\n")
+    return path
+
+
+def test_file_parameters_are_relative_to_the_project_file(tmp_path, monkeypatch):
+    # The project file's header: paths are relative to it, whatever the working folder.
+    path = _profile_project(tmp_path / "job", "grids/dem.asc")
+    (tmp_path / "elsewhere").mkdir()
+    monkeypatch.chdir(tmp_path / "elsewhere")
+    result = run_project(path, output=tmp_path / "out")
+    profiles = gpd.read_file(result.geopackage, layer="profiles", engine="pyogrio")
+    np.testing.assert_allclose(profiles["alpha"], 2.5, atol=1e-6)  # the planar grid's slope
+    provenance = gpd.read_file(result.geopackage, layer=PROVENANCE_LAYER, engine="pyogrio")
+    assert json.loads(provenance["params"].iloc[0])["elevation"] == "grids/dem.asc"
+
+
+def test_missing_file_parameter_names_its_line(tmp_path):
+    path = _profile_project(tmp_path / "job", "grids/none.asc")
+    with pytest.raises(
+        InputError,
+        match=r"line 9: surface-profiles: parameter 'elevation' = .*none.asc'"
+        r": no such file",
+    ):
+        load_project(path)
 
 
 def test_demo_outside_the_source_tree_is_bad_usage(tmp_path, monkeypatch, capsys):

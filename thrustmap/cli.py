@@ -94,7 +94,7 @@ def _metavar(p: Param) -> str | None:
         return "{" + ",".join(p.choices) + "}"
     if p.unit:
         return p.unit.upper().replace(" ", "_")
-    return {"float": "NUMBER", "int": "INTEGER", "str": "TEXT"}.get(p.type)
+    return {"float": "NUMBER", "int": "INTEGER", "str": "TEXT", "file": "FILE"}.get(p.type)
 
 
 def _flag(name: str) -> str:

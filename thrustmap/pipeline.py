@@ -30,7 +30,8 @@ A project file (paths are relative to it)::
 Each step's layer outputs become layers of ``<output>/<geopackage>`` under their
 declared names (the canonical layer names of the data contract) unless renamed;
 file outputs are written under the output folder. Everything is written at the
-end, atomically, with a ``provenance`` table (one row per step). Parameters a
+end, atomically, with a ``provenance`` table (one row per step). Parameters of type
+``file`` are paths relative to the project file, like the inputs. Parameters a
 step does not set are filled from the project when the tool declares them:
 ``crs`` from ``[project] crs``; ``azimuth_ref``, ``declination`` and ``date``
 from the project inputs wired into the step; ``domain_field`` from
@@ -350,7 +351,7 @@ def load_project(path: str | Path) -> Project:
     steps: list[Step] = []
     for index, raw in enumerate(raw_steps):
         steps.append(
-            _load_step(check, index, raw, crs, inputs, steps, domains_input, domains_field)
+            _load_step(check, base, index, raw, crs, inputs, steps, domains_input, domains_field)
         )
     _check_unique_outputs(check, steps)
     return Project(
@@ -418,6 +419,7 @@ def _geometry_fits(produced: str, expected: str) -> bool:
 
 def _load_step(
     check: _Checker,
+    base: Path,
     index: int,
     raw: Any,
     crs: str | None,
@@ -450,7 +452,7 @@ def _load_step(
 
     refs = _wire_inputs(check, where, label, tool, raw, inputs, earlier, domains_input)
     defaults: dict[str, Any] = {"crs": crs, "domain_field": domains_field}
-    params = _step_params(check, where, label, tool, raw, refs, inputs, defaults)
+    params = _step_params(check, base, where, label, tool, raw, refs, inputs, defaults)
     names = _step_outputs(check, where, label, tool, raw)
     return Step(id=step_id, tool=tool, inputs=refs, params=params, outputs=names)
 
@@ -494,6 +496,7 @@ def _wire_inputs(
 
 def _step_params(
     check: _Checker,
+    base: Path,
     where: tuple[str | int, ...],
     label: str,
     tool: Tool,
@@ -506,7 +509,10 @@ def _step_params(
     params: dict[str, Any] = {}
     for key, value in given.items():
         try:
-            params[key] = tool.param(key).validate(value, tool=tool.name)
+            param = tool.param(key)
+            if param.type == "file" and isinstance(value, str):
+                value = str(_join(base, value))
+            params[key] = param.validate(value, tool=tool.name)
         except ParameterError as exc:
             message = str(exc)
             if message.startswith(f"{tool.name}: unknown parameter"):
@@ -602,6 +608,14 @@ def _check_unique_outputs(check: _Checker, steps: list[Step]) -> None:
 
 
 # --------------------------------------------------------------------------- running
+
+
+def _portable(step: Step, base: Path) -> dict[str, Any]:
+    """A step's parameters with file paths relative to the project folder, for provenance."""
+    return {
+        k: _relative(Path(v), base) if step.tool.param(k).type == "file" and v else v
+        for k, v in step.params.items()
+    }
 
 
 def _relative(path: Path, base: Path) -> str:
@@ -711,7 +725,7 @@ def run_project(
                         for k, r in step.inputs.items()
                     }
                 ),
-                "params": json.dumps(step.params, default=str),
+                "params": json.dumps(_portable(step, base), default=str),
                 "outputs": json.dumps(step.outputs),
                 "started_utc": started.isoformat(timespec="seconds"),
                 "seconds": round(time.perf_counter() - clock, 3),

@@ -8,6 +8,7 @@ keywords and returns a mapping of output name to (Geo)DataFrame.
 
 from __future__ import annotations
 
+import os
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -27,7 +28,7 @@ __all__ = [
 ]
 
 GEOMETRIES = ("point", "line", "polygon", "table", "any")
-PARAM_TYPES = ("float", "int", "bool", "str", "choice")
+PARAM_TYPES = ("float", "int", "bool", "str", "choice", "file")
 
 
 @dataclass(frozen=True)
@@ -39,8 +40,10 @@ class Param:
     name : str
         Python keyword of the parameter (``snake_case``); the CLI option is
         ``--name-with-dashes``.
-    type : {"float", "int", "bool", "str", "choice"}
-        Value type.
+    type : {"float", "int", "bool", "str", "choice", "file"}
+        Value type. ``file`` is the path of an existing file the tool reads
+        (a relative path is taken from the working folder, or in a project
+        file from that file's folder).
     default : object
         Default value; ``None`` means optional with no value.
     help : str
@@ -88,12 +91,17 @@ class Param:
                 v = int(value)
             elif self.type == "bool":
                 v = _to_bool(value)
+            elif self.type == "file":
+                v = os.fspath(value)
             else:
                 v = str(value)
         except (TypeError, ValueError):
             raise ParameterError(
                 f"{where}parameter {self.name!r} must be of type {self.type}; got {value!r}"
             ) from None
+        if self.type == "file" and not Path(v).is_file():
+            folder = "" if Path(v).is_absolute() else f" (relative paths start at {Path.cwd()})"
+            raise ParameterError(f"{where}parameter {self.name!r} = {v!r}: no such file{folder}")
         if self.type == "choice" and v not in self.choices:
             raise ParameterError(
                 f"{where}parameter {self.name!r} = {v!r} is not one of: {', '.join(self.choices)}"

@@ -281,8 +281,9 @@ def _down_plunge_example(folder: Path) -> dict[str, Any]:
     return {"attitudes": sample_attitudes(), "domains": scenario("domains")}
 
 
-_ELEVATION = Param("elevation", "str", None, "Elevation grid: path of an ESRI ASCII grid (.asc, with its .prj) "
-                   "in the working CRS; a relative path is read from the working folder.")
+_ELEVATION = Param("elevation", "file", None, "Elevation grid: path of an ESRI ASCII grid (.asc, with its .prj) "
+                   "in the working CRS; a relative path is read from the working folder (in a project file, "
+                   "from the project file's folder).")
 
 SURFACE_PROFILES = Tool(
     name="surface-profiles",
