@@ -715,7 +715,7 @@ def state_probabilities(
     state, _ = _state_codes(np.radians(a), np.radians(b), w, values["tolerance"])
     probabilities = {s: float(np.mean(state == s)) for s in (*STATES, UNDEFINED)}
     if probabilities[UNDEFINED] > 0:
-        log.info("%.1f%% of the samples are no wedge and counted as undefined", 100 * probabilities[UNDEFINED])
+        log.info("%d of %d samples are no wedge and counted as undefined", np.sum(state == UNDEFINED), n)
     return TaperUncertainty(a, b, state, probabilities)
 
 
