@@ -2,7 +2,6 @@
 
 import json
 import re
-import shutil
 from pathlib import Path
 
 import geopandas as gpd
@@ -20,35 +19,6 @@ from thrustmap.pipeline import PROVENANCE_LAYER, key_line, load_project, run_pro
 ROOT = Path(__file__).resolve().parents[1]
 CRS = "EPSG:32633"
 
-# Columns of sample_gis/field_sheet.csv fixed by CONTRACT.md.
-FIELD_SHEET_COLUMNS = ["stn", "lon", "lat", "type", "attitude", "date", "notes"]
-
-
-@pytest.fixture
-def demo_dir(tmp_path):
-    """A copy of sample_gis/ to run the demo in; stands in a small field sheet while the
-    scenario generator's files are not in the tree, so the real project.toml is what runs."""
-    shutil.copytree(ROOT / "sample_gis", tmp_path / "sample_gis")
-    sheet = tmp_path / "sample_gis" / "field_sheet.csv"
-    if not sheet.exists():
-        pd.DataFrame(
-            [
-                ["A1", "15.71", "45.93", "bedding", "N30E 45SE", "2024-06-01", ""],
-                [
-                    "A2",
-                    "15.72",
-                    "45.94",
-                    "bedding",
-                    "210/45NW",
-                    "2024-06-01",
-                    "<script>alert(1)</script>",
-                ],
-                ["A3", "15.73", "45.95", "bedding", "123/95", "2024-06-02", "dip over 90"],
-            ],
-            columns=FIELD_SHEET_COLUMNS,
-        ).to_csv(sheet, index=False)
-    return tmp_path
-
 
 def test_demo_project_loads_with_every_step_known():
     project = load_project(ROOT / "sample_gis" / "project.toml")
@@ -58,24 +28,7 @@ def test_demo_project_loads_with_every_step_known():
     assert project.output.name == "out"
 
 
-def test_demo_equals_run_of_the_project(demo_dir, monkeypatch, capsys):
-    monkeypatch.chdir(demo_dir)
-    assert main(["demo"]) == 0
-    assert main(["demo", "-q"]) == 0  # the demo replaces its own outputs
-    assert main(["run", "sample_gis/project.toml", "--out", "again"]) == 0
-    demo = demo_dir / "out" / "thrustmap.gpkg"
-    again = demo_dir / "again" / "thrustmap.gpkg"
-    assert sorted(pyogrio.list_layers(demo)[:, 0]) == sorted(pyogrio.list_layers(again)[:, 0])
-    for layer in pyogrio.list_layers(demo)[:, 0]:
-        a = gpd.read_file(demo, layer=layer, engine="pyogrio")
-        b = gpd.read_file(again, layer=layer, engine="pyogrio")
-        if layer == PROVENANCE_LAYER:
-            a, b = (
-                a.drop(columns=["started_utc", "seconds"]),
-                b.drop(columns=["started_utc", "seconds"]),
-            )
-        pd.testing.assert_frame_equal(a, b)
-    assert "thrustmap.gpkg: layer provenance" in capsys.readouterr().out
+# The demo against `thrustmap run` of the same project: tests/test_scenario_truth.py.
 
 
 def _profile_project(folder, elevation):
