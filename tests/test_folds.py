@@ -101,6 +101,32 @@ def test_first_cut_finds_a_thin_limb():
     assert fit.interlimb_angle == pytest.approx(truth, abs=4.0)
 
 
+@pytest.mark.parametrize("n", [50, 4097, 30_000])
+def test_first_cut_is_the_best_two_means_split(n):
+    # Fisher (1958), On grouping for maximum homogeneity: the best split of sorted
+    # values in two maximises S1**2/n1 + S2**2/n2; checked against every split.
+    # Three clusters (the middle one small), values rounded so that ties occur.
+    rng = np.random.default_rng(n)
+    x = np.round(
+        np.concatenate(
+            [
+                rng.normal(-1.0, 0.2, n // 2),
+                rng.normal(0.3, 0.1, n // 10),
+                rng.normal(1.1, 0.3, n - n // 2 - n // 10),
+            ]
+        ),
+        2,
+    )
+    ordered = np.sort(x)
+    cum = np.concatenate([[0.0], np.cumsum(ordered)])
+    k = np.arange(1, n)
+    score = cum[k] ** 2 / k + (cum[-1] - cum[k]) ** 2 / (n - k)
+    best = folds._first_cut(ordered, cum)
+    assert 0 < best < n and ordered[best - 1] < ordered[best]
+    assert score[best - 1] == pytest.approx(score.max(), rel=1e-12)
+    assert folds._first_cut(np.full(5, 0.3), np.arange(6) * 0.3) == 0
+
+
 def test_bootstrap_is_seeded():
     dd, dip, over, _ = synthetic_fold(4, n=60, kappa=60)
     a = folds.fit_fold(dd, dip, overturned=over, seed=7, n_boot=200)
