@@ -16,20 +16,21 @@ those hinge attitudes in and draws the two limbs toward each other, so the
 interlimb angle comes out too large (by 5-9 degrees for chevron-like folds with
 about 11 % of the attitudes in the hinge zone and Fisher noise of kappa 50;
 by far more when a limb is thinly sampled). The angles are therefore first cut
-in two by the exact 1-D 2-means split (Fisher 1958; no starting value can trap
-it), and each limb's angle is then the mode of its group: the fixed point of
-mean shift with a flat kernel (Fukunaga & Hostetler 1975; Cheng 1995), that
-is, the mean of the group's angles within a window about itself. The window
-half-width is twice the robust spread of the limbs (1.4826 x the median
-absolute deviation from each limb's median, pooled; at least 1 degree), so
-that it holds about 95 % of a limb's own scatter but only the hinge attitudes
-closest to the limb. The search starts where the window holds the most
-angles, and the groups are re-split at the bisector of the two modes until
-the split is stable. Without a hinge zone and with symmetric scatter the mode
-and the mean estimate the same angle; the mode's variance is then about 1.3
-times the mean's under normal scatter (by simulation), the price of ignoring
-the hinge. The angles are sorted once and every later step is a binary search
-on them, so one sort dominates the cost.
+in two by the 1-D 2-means split (Fisher 1958), searched over the splits
+themselves so that no starting value can trap it, and each limb's angle is
+then the mode of its group: the fixed point of mean shift with a flat kernel
+(Fukunaga & Hostetler 1975; Cheng 1995), that is, the mean of the group's
+angles within a window about itself. The window half-width is twice the
+robust spread of the limbs (1.4826 x the median absolute deviation from each
+limb's median, pooled; at least 1 degree), so that it holds about 95 % of a
+limb's own scatter but only the hinge attitudes closest to the limb. The
+search starts where the window holds the most angles, and the groups are
+re-split at the bisector of the two modes until the split is stable. Without
+a hinge zone and with symmetric scatter the mode and the mean estimate the
+same angle; the mode's variance is then about 1.3 times the mean's under
+normal scatter (by simulation), the price of ignoring the hinge. The angles
+are sorted once and every later step is a binary search on them, so one sort
+dominates the cost.
 
 References
 ----------
