@@ -6,7 +6,6 @@ import datetime as dt
 
 import numpy as np
 import pandas as pd
-import ppigrf
 from numpy.typing import NDArray
 
 from thrustmap.orientation import normalize_azimuth
@@ -14,7 +13,6 @@ from thrustmap.orientation import normalize_azimuth
 SURVEY_START = dt.date(2024, 6, 3)
 STATIONS_PER_DAY = 9
 MAX_SURVEY_DAYS = 35
-IGRF_BLOCK = 20000
 BAD_FRACTION = 0.035
 CARDINAL_SNAP = 1.5
 PLANE_STYLES = ("rhr", "letter", "quadrant")
@@ -80,26 +78,6 @@ def survey_dates(lon: NDArray, rng: np.random.Generator) -> tuple[NDArray, NDArr
     offsets = 7 * (w // 5) + w % 5
     days = np.array([SURVEY_START + dt.timedelta(days=int(o)) for o in offsets])
     return rank, days[workday]
-
-
-def declination(lon: NDArray, lat: NDArray, elevation_m: NDArray, dates: NDArray) -> NDArray:
-    """IGRF declination (degrees, east positive) at each station on its survey date.
-
-    D = atan2(Be, Bn) from ppigrf's geodetic field components. ppigrf
-    evaluates every date at every point, so stations go in blocks.
-    """
-    out = np.empty(lon.size)
-    h_km = np.asarray(elevation_m, float) / 1000.0
-    unique, which = np.unique(dates, return_inverse=True)
-    when = [dt.datetime(d.year, d.month, d.day, 12) for d in unique]
-    for lo in range(0, lon.size, IGRF_BLOCK):
-        b = slice(lo, lo + IGRF_BLOCK)
-        be, bn, _ = ppigrf.igrf(lon[b], lat[b], h_km[b], when)
-        be = np.asarray(be).reshape(len(when), -1)
-        bn = np.asarray(bn).reshape(len(when), -1)
-        cols = np.arange(be.shape[1])
-        out[b] = np.degrees(np.arctan2(be[which[b], cols], bn[which[b], cols]))
-    return out
 
 
 def write_attitudes(rows: pd.DataFrame, rng: np.random.Generator) -> pd.DataFrame:

@@ -19,6 +19,7 @@ from thrustmap._version import __version__
 from thrustmap.errors import ParameterError
 from thrustmap.io._atomic import atomic_paths
 from thrustmap.io.grid import Grid, write_ascii_grid
+from thrustmap.north import declination
 from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_vector,
@@ -391,7 +392,8 @@ def _field_sheet(
 ) -> tuple[pd.DataFrame, pd.DataFrame, dict]:
     lon, lat = m.transformer_to_lonlat().transform(x, y)
     rank, dates = fs.survey_dates(lon, rng)
-    decl = fs.declination(lon, lat, grid.sample(x, y), dates)
+    # each station on its survey date, at midday, at its ground elevation
+    decl = declination(lon, lat, dates, height_km=grid.sample(x, y) / 1000.0, hour=12.0)
     ids = np.char.add("FS", np.char.zfill((rank + 1).astype(str), 3))
 
     # a thrust measurement is noted as two rows: the surface, then its slickenlines
