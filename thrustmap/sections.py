@@ -30,10 +30,11 @@ import numpy as np
 import pandas as pd
 import shapely
 from numpy.typing import ArrayLike, NDArray
-from pyproj import CRS, Proj, Transformer
+from pyproj import CRS
 
 from thrustmap.errors import CRSError, InputError, ParameterError
 from thrustmap.figures import CAUTION, add_caution
+from thrustmap.north import convergence, true_to_grid
 from thrustmap.orientation import line_to_vector, normalize_azimuth, plane_to_normal
 from thrustmap.profiles import (
     _line_geometries,
@@ -289,13 +290,10 @@ def section_topography(line: Any, grid: Any, *, step: float | None = None, secti
 
 
 def _true_to_grid(azimuth: Float, xy: Float, crs: Any) -> tuple[Float, bool]:
-    """Grid-north azimuths from true-north ones at points (pyproj meridian convergence)."""
+    """Grid-north azimuths from true-north ones at points; unchanged (and False) without a CRS."""
     if crs is None:
         return azimuth, False
-    c = CRS.from_user_input(crs)
-    lon, lat = Transformer.from_crs(c, c.geodetic_crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
-    gamma = np.asarray(Proj(c).get_factors(lon, lat).meridian_convergence, dtype=float)
-    return normalize_azimuth(azimuth - gamma), True
+    return true_to_grid(azimuth, convergence(xy[:, 0], xy[:, 1], crs)), True
 
 
 def section_thrusts(

@@ -8,7 +8,7 @@ import numpy as np
 import pandas as pd
 from numpy.typing import NDArray
 
-from thrustmap.orientation import normalize_azimuth
+from thrustmap.north import true_to_magnetic
 
 SURVEY_START = dt.date(2024, 6, 3)
 STATIONS_PER_DAY = 9
@@ -91,14 +91,14 @@ def write_attitudes(rows: pd.DataFrame, rng: np.random.Generator) -> pd.DataFram
     n = len(rows)
     plane = (rows["kind"] == "plane").to_numpy()
     decl = rows["declination"].to_numpy()
-    strike_exact = normalize_azimuth(rows["dip_direction"].to_numpy() - 90.0 - decl)
+    strike_exact = true_to_magnetic(rows["dip_direction"].to_numpy() - 90.0, decl)
     off = (strike_exact + 45.0) % 90.0 - 45.0
     cardinal = plane & (np.abs(off) <= CARDINAL_SNAP)
     strike = np.where(cardinal, strike_exact - off, strike_exact)
     strike = np.round(np.nan_to_num(strike)).astype(int) % 360
     dip = np.clip(np.round(np.nan_to_num(rows["dip"].to_numpy())), 1, 89).astype(int)
     trend = (
-        np.round(np.nan_to_num(normalize_azimuth(rows["trend"].to_numpy() - decl))).astype(int)
+        np.round(np.nan_to_num(true_to_magnetic(rows["trend"].to_numpy(), decl))).astype(int)
         % 360
     )
     plunge = np.clip(np.round(np.nan_to_num(rows["plunge"].to_numpy())), 1, 89).astype(int)

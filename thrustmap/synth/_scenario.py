@@ -19,7 +19,7 @@ from thrustmap._version import __version__
 from thrustmap.errors import ParameterError
 from thrustmap.io._atomic import atomic_paths
 from thrustmap.io.grid import Grid, write_ascii_grid
-from thrustmap.north import declination
+from thrustmap.north import convergence, declination, grid_to_true
 from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_vector,
@@ -137,7 +137,7 @@ def _thrust_layer(gamma: float, area: shapely.Polygon) -> tuple[gpd.GeoDataFrame
         coords = np.asarray(line.coords)
         tangent = coords[-1] - coords[0]
         hw_grid = np.degrees(np.arctan2(tangent[1], -tangent[0]))
-        hw_true = float(normalize_azimuth(hw_grid + gamma))
+        hw_true = float(grid_to_true(hw_grid, gamma))
         if t.reverse_digitised:
             line = shapely.reverse(line)
         side = "left" if t.reverse_digitised else "right"
@@ -249,7 +249,7 @@ def _measure(x: np.ndarray, y: np.ndarray, ctx: dict, rng: np.random.Generator) 
     site = np.arange(n)
     dom = m.domain_index(x, y)
     phase = m.fold_phase(frame, dom, x, y)
-    gamma = m.convergence(x, y)
+    gamma = convergence(x, y, m.CRS_EPSG)
 
     exact = m.younging(frame, dom, phase)
     noisy = m.fisher(exact, m.KAPPA["bedding"], rng)
@@ -314,7 +314,7 @@ def _thrust_measurements(x, y, gamma, ctx, rng) -> pd.DataFrame:
     sel, seg = site[keep], seg[keep]
     t = end[seg] - start[seg]
     # segments run toward +u, so the hanging wall (hinterland) is on their right
-    dd = normalize_azimuth(np.degrees(np.arctan2(t[:, 1], -t[:, 0])) + gamma[sel])
+    dd = grid_to_true(np.degrees(np.arctan2(t[:, 1], -t[:, 0])), gamma[sel])
     dip = np.array([tt.dip for tt in m.THRUSTS])[owner[seg]]
     exact_n = plane_to_normal(dd, dip)
     noisy_n = m.fisher(exact_n, m.KAPPA["thrust"], rng)

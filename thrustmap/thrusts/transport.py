@@ -18,6 +18,8 @@ import shapely
 from numpy.typing import ArrayLike, NDArray
 
 from thrustmap.errors import DegenerateDataError, ParameterError
+from thrustmap.north import convergence as grid_convergence
+from thrustmap.north import grid_to_true, magnetic_to_true, true_to_grid
 from thrustmap.orientation import line_to_vector, normalize_azimuth
 from thrustmap.thrusts._geometry import (
     axial_mean,
@@ -27,7 +29,6 @@ from thrustmap.thrusts._geometry import (
     segments,
     unit_vectors,
 )
-from thrustmap.thrusts._north import grid_convergence, grid_to_true, true_to_grid
 
 __all__ = [
     "AZIMUTH_REFS",
@@ -179,7 +180,7 @@ def given_transport(
             raise ParameterError(
                 "transport_azimuth is magnetic: give the declination (degrees, east positive)"
             )
-        true = float(normalize_azimuth(az + float(declination)))
+        true = float(magnetic_to_true(az, float(declination)))
         grid = float(true_to_grid(true, convergence))
     elif azimuth_ref == "true":
         grid = float(true_to_grid(az, convergence))
