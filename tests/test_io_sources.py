@@ -9,8 +9,9 @@ import pytest
 import shapely
 
 from thrustmap.errors import CRSError, InputError, OutputExistsError, SourceNotFoundError
-from thrustmap.io.atomic import atomic_path, write_file, write_geopackage
+from thrustmap.io.atomic import atomic_paths, write_file
 from thrustmap.io.sources import read_source, split_source, working_crs
+from thrustmap.io.write import write_layers
 
 
 def _points(crs="EPSG:4326"):
@@ -150,12 +151,12 @@ def test_working_crs_must_be_projected():
 def test_geopackage_is_written_atomically_and_not_overwritten(tmp_path):
     out = tmp_path / "sub" / "run.gpkg"
     table = pd.DataFrame({"pair": ["T1-T2"], "metres": [812.5]})
-    write_geopackage(out, {"points": _points(), "spacing": table})
+    write_layers(out, {"points": _points(), "spacing": table})
     assert pyogrio.list_layers(out)[:, 0].tolist() == ["points", "spacing"]
     assert gpd.read_file(out, layer="spacing", engine="fiona")["metres"].tolist() == [812.5]
     with pytest.raises(OutputExistsError, match="run.gpkg exists"):
-        write_geopackage(out, {"spacing": table})
-    write_geopackage(out, {"spacing": table}, overwrite=True)
+        write_layers(out, {"spacing": table})
+    write_layers(out, {"spacing": table}, overwrite=True, keep_layers=False)
     assert pyogrio.list_layers(out)[:, 0].tolist() == ["spacing"]
     assert os.listdir(out.parent) == ["run.gpkg"]  # no temporary file left
 
@@ -178,6 +179,6 @@ def test_writer_sees_the_final_suffix(tmp_path):
     seen = []
     write_file(tmp_path / "map.html", lambda path: seen.append(path.suffix) or path.write_text("x"))
     assert seen == [".html"]
-    with atomic_path(tmp_path / "b.bin") as tmp:
+    with atomic_paths(tmp_path / "b.bin") as (tmp,):
         tmp.write_bytes(b"\x00")
     assert (tmp_path / "b.bin").read_bytes() == b"\x00"

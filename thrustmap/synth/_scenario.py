@@ -17,7 +17,7 @@ import shapely
 
 from thrustmap._version import __version__
 from thrustmap.errors import ParameterError
-from thrustmap.io._atomic import atomic_paths
+from thrustmap.io.atomic import atomic_paths
 from thrustmap.io.grid import Grid, write_ascii_grid
 from thrustmap.north import convergence, declination, grid_to_true
 from thrustmap.orientation import (
