@@ -21,8 +21,7 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
 from thrustmap.domains import DOMAIN_COLUMN, DomainStatistics
-from thrustmap.errors import ParameterError
-from thrustmap.figures import FIGURE_FORMATS, save_figure
+from thrustmap.figures import save_figure
 from thrustmap.folds import FoldFit
 from thrustmap.orientation import dip_direction_to_strike, plane_to_pole
 from thrustmap.stats import density
@@ -357,9 +356,6 @@ def write_stereonet(
     >>> [p.name for p in write_stereonet(rows, tempfile.mkdtemp(), "D1", formats=("svg",))]
     ['stereonet_D1.svg']
     """
-    bad = [f for f in formats if f not in FIGURE_FORMATS]
-    if bad:
-        raise ParameterError(f"unknown figure format(s) {bad}; choose from {', '.join(FIGURE_FORMATS)}")
     fig = plot_stereonet(attitudes, fit=fit, title=title)
     # save_figure gives the stem each format's suffix in turn
     stem = Path(folder) / stereonet_filename(name, "png")
