@@ -67,6 +67,8 @@ def test_fisher_k_alpha_from_n_and_r():
     assert stats.fisher_k_alpha(4, 0.0)[1] == 180.0
     with pytest.raises(DegenerateDataError, match="at least 2"):
         stats.fisher_k_alpha(1, 1.0)
+    with pytest.raises(ParameterError, match="strictly between 0 and 1"):
+        stats.fisher_k_alpha(10, 9.0, conf=1.0)
 
 
 @pytest.mark.parametrize("conf", [0.95, 0.99])

@@ -210,6 +210,11 @@ class FisherStats:
     axial: bool
 
 
+def _check_conf(conf: float) -> None:
+    if not 0.0 < conf < 1.0:
+        raise ParameterError(f"conf = {conf!r} must lie strictly between 0 and 1 (e.g. 0.95)")
+
+
 def fisher_k_alpha(n: int, r: float, *, conf: float = 0.95) -> tuple[float, float]:
     """Fisher (1953) precision k and confidence-cone half-angle alpha from N and R.
 
@@ -237,6 +242,8 @@ def fisher_k_alpha(n: int, r: float, *, conf: float = 0.95) -> tuple[float, floa
     ------
     DegenerateDataError
         When ``n`` is below 2.
+    ParameterError
+        ``conf`` outside (0, 1).
 
     Examples
     --------
@@ -244,6 +251,7 @@ def fisher_k_alpha(n: int, r: float, *, conf: float = 0.95) -> tuple[float, floa
     >>> round(k, 2), round(alpha, 1)
     (10.25, 15.8)
     """
+    _check_conf(conf)
     if n < 2:
         raise DegenerateDataError(f"Fisher statistics need at least 2 measurements; got {n}")
     k = float("inf") if n - r <= _ZERO * n else (n - 1.0) / (n - r)
@@ -299,8 +307,7 @@ def fisher_stats(
     >>> round(s.mean_trend, 1), round(s.mean_plunge, 1), s.n
     (14.9, 44.9, 5)
     """
-    if not 0.0 < conf < 1.0:
-        raise ParameterError(f"conf = {conf!r} must lie strictly between 0 and 1 (e.g. 0.95)")
+    _check_conf(conf)
     x = _lines(trend, plunge)
     n = x.shape[1]
     if n < 2:
