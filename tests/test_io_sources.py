@@ -5,12 +5,13 @@ import os
 import geopandas as gpd
 import pandas as pd
 import pyogrio
+import pyproj
 import pytest
 import shapely
 
 from thrustmap.errors import CRSError, InputError, OutputExistsError, SourceNotFoundError
 from thrustmap.io.atomic import atomic_paths, write_file
-from thrustmap.io.sources import read_source, split_source, working_crs
+from thrustmap.io.sources import is_projected_metric, read_source, split_source, working_crs
 from thrustmap.io.write import write_layers
 
 
@@ -146,6 +147,16 @@ def test_working_crs_must_be_projected():
         working_crs("EPSG:4326")
     with pytest.raises(CRSError, match="unknown CRS 'nonsense'"):
         working_crs("nonsense")
+
+
+@pytest.mark.parametrize(
+    ("crs", "expected"),
+    [("EPSG:32633", True), ("EPSG:2227", False), ("EPSG:4326", False)],
+)
+def test_projected_metric_crs(crs, expected):
+    # Axis units as pyproj reports them: UTM 33N in metres, California zone 3 in US
+    # survey feet, WGS 84 geographic in degrees.
+    assert is_projected_metric(pyproj.CRS(crs)) is expected
 
 
 def test_geopackage_is_written_atomically_and_not_overwritten(tmp_path):
