@@ -37,6 +37,7 @@ from thrustmap.figures import CAUTION, add_caution
 from thrustmap.north import convergence, true_to_grid
 from thrustmap.orientation import line_to_vector, normalize_azimuth, plane_to_normal
 from thrustmap.profiles import (
+    _azimuth_of,
     _line_geometries,
     check_grid_crs,
     crossing_distances,
@@ -469,12 +470,11 @@ def build_section(
         topo = section_topography(gpd.GeoSeries([geom], crs=crs), grid, step=step, section_id=section_id)
     else:
         topo = gpd.GeoDataFrame({"section_id": [], "distance_m": [], "elevation": []}, geometry=[], crs=crs)
-    (x0, y0), (x1, y1) = shapely.get_coordinates(geom)[[0, -1]]
     line_layer = gpd.GeoDataFrame(
         {
             "section_id": [section_id],
             "length_m": [geom.length],
-            "azimuth_grid": [float(np.degrees(np.arctan2(x1 - x0, y1 - y0)) % 360.0)],
+            "azimuth_grid": [_azimuth_of(geom)],
             "buffer_m": [float(buffer)],
             "n_points": [len(points)],
             "n_thrusts": [len(crossings)],
