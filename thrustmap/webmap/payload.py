@@ -35,7 +35,9 @@ __all__ = [
     "thrust_payload",
     "area_payload",
     "rank_colors",
+    "thumbnail_png",
     "thumbnail_uri",
+    "format_value",
 ]
 
 PLANE_FEATURES = ("bedding", "cleavage", "foliation", "fault", "thrust", "joint", "vein",
@@ -105,14 +107,23 @@ def _coords(geom: shapely.Geometry) -> Any:
     return walk(mapping["coordinates"])
 
 
-def _text(value: Any) -> str:
-    if value is None or (isinstance(value, float) and np.isnan(value)):
+def format_value(value: Any) -> str:
+    """A cell value as display text: numbers to at most 2 decimals, booleans yes/no, missing empty.
+
+    Examples
+    --------
+    >>> [format_value(v) for v in (31.2049, 5100000.0, True, None, float("nan"), "D1")]
+    ['31.2', '5,100,000', 'yes', '', '', 'D1']
+    """
+    if value is None or (isinstance(value, float | np.floating) and np.isnan(value)):
         return ""
+    if isinstance(value, bool | np.bool_):
+        return "yes" if value else "no"
     if isinstance(value, float | np.floating):
         v = float(value)
         return f"{v:,.2f}".rstrip("0").rstrip(".") if abs(v) < 1e15 else f"{v:.4g}"
-    if isinstance(value, bool | np.bool_):
-        return "yes" if value else "no"
+    if value is pd.NA or value is pd.NaT:
+        return ""
     return str(value)
 
 
@@ -122,7 +133,7 @@ def _encode_column(series: pd.Series) -> Any:
         return ["yes" if v else "no" for v in series]
     if pd.api.types.is_numeric_dtype(series):
         return [None if v is None else v for v in _round(series, 2)]
-    texts = [_text(v) for v in series]
+    texts = [format_value(v) for v in series]
     uniques = sorted(set(texts))
     if len(texts) > 8 and len(uniques) <= len(texts) // 4:
         index = {u: i for i, u in enumerate(uniques)}
@@ -400,7 +411,7 @@ def _hanging_wall_side(frame: gpd.GeoDataFrame) -> np.ndarray:
 def _rows(frame: pd.DataFrame, skip: tuple[str, ...] = ()) -> list[list[list[str]]]:
     cols = [c for c in frame.columns if c != getattr(frame, "_geometry_column_name", None)
             and c not in skip]
-    return [[[str(c), _text(v)] for c, v in zip(cols, row, strict=True) if _text(v) != ""]
+    return [[[str(c), format_value(v)] for c, v in zip(cols, row, strict=True) if format_value(v) != ""]
             for row in frame[cols].itertuples(index=False, name=None)]
 
 
@@ -433,7 +444,7 @@ def thrust_payload(thrusts: gpd.GeoDataFrame) -> dict[str, Any]:
         if geom is None or geom.is_empty:
             raise InputError("the trace has no geometry", layer="thrust_traces", row=i + 1)
         parts = shapely.get_parts(geom)
-        label = _text(frame[id_col].iloc[i]) if id_col else ""
+        label = format_value(frame[id_col].iloc[i]) if id_col else ""
         if np.isfinite(rank[i]):
             label = f"{label} · {int(rank[i])}".strip(" ·")
         if oos[i]:
@@ -453,8 +464,8 @@ def thrust_payload(thrusts: gpd.GeoDataFrame) -> dict[str, Any]:
     return {"features": features}
 
 
-def thumbnail_uri(figure: Any, *, width: int = 240) -> str:
-    """A PNG data URI from a path, PNG/JPEG bytes or a matplotlib Figure, at most ``width`` px wide.
+def thumbnail_png(figure: Any, *, width: int = 240) -> bytes:
+    """PNG bytes from a path, PNG/JPEG bytes or a matplotlib Figure, at most ``width`` px wide.
 
     Raises
     ------
@@ -464,9 +475,8 @@ def thumbnail_uri(figure: Any, *, width: int = 240) -> str:
     Examples
     --------
     >>> import matplotlib.pyplot as plt
-    >>> fig = plt.figure(figsize=(2, 2))
-    >>> thumbnail_uri(fig).startswith("data:image/png;base64,")
-    True
+    >>> thumbnail_png(plt.figure(figsize=(4, 2), dpi=100), width=200)[:4]
+    b'\\x89PNG'
     """
     from PIL import Image, UnidentifiedImageError
 
@@ -493,7 +503,20 @@ def thumbnail_uri(figure: Any, *, width: int = 240) -> str:
     out = io.BytesIO()
     image.convert("RGBA" if image.mode in ("RGBA", "LA", "P") else "RGB").save(
         out, format="PNG", optimize=True)
-    return "data:image/png;base64," + base64.b64encode(out.getvalue()).decode("ascii")
+    return out.getvalue()
+
+
+def thumbnail_uri(figure: Any, *, width: int = 240) -> str:
+    """:func:`thumbnail_png` as a ``data:image/png;base64,`` URI.
+
+    Examples
+    --------
+    >>> import matplotlib.pyplot as plt
+    >>> thumbnail_uri(plt.figure(figsize=(2, 2))).startswith("data:image/png;base64,")
+    True
+    """
+    return "data:image/png;base64," + base64.b64encode(thumbnail_png(figure, width=width)).decode(
+        "ascii")
 
 
 def area_payload(
@@ -536,7 +559,7 @@ def area_payload(
     for i, (geom, rows) in enumerate(zip(frame.geometry.values, _rows(frame), strict=True)):
         if geom is None or geom.is_empty:
             raise InputError("the polygon has no geometry", layer=layer, row=i + 1)
-        label = _text(frame[label_col].iloc[i]) if label_col else ""
+        label = format_value(frame[label_col].iloc[i]) if label_col else ""
         palette = DOMAIN_COLORS if outline else SHEET_FILLS
         color = palette[i % len(palette)]
         feature = {

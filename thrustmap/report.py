@@ -1,0 +1,388 @@
+"""The review report: one self-contained HTML file and its Markdown twin.
+
+Both are rendered from the same list of blocks (headings, paragraphs, tables,
+figures), so they always say the same thing. Every section is optional and
+appears only when its data is given; every text is escaped for its format.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+import html
+import logging
+import os
+import re
+from collections.abc import Mapping
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from thrustmap._version import __version__
+from thrustmap.caution import CAUTION
+from thrustmap.errors import InputError, OutputExistsError
+from thrustmap.io.runpackage import write_bytes_atomic, write_text_atomic
+from thrustmap.provenance import Provenance
+from thrustmap.webmap.payload import format_value, thumbnail_png, thumbnail_uri
+
+__all__ = ["write_report"]
+
+logger = logging.getLogger(__name__)
+
+_MAX_REJECT_ROWS = 50
+_SPACING_COLUMNS = ("spacing_m", "spacing", "distance_m")
+
+
+@dataclass(frozen=True)
+class _Block:
+    kind: str  # "h1", "h2", "p", "caution", "table", "figure"
+    text: str = ""
+    table: pd.DataFrame | None = None
+    image: Any = None
+
+
+def _frame(data: pd.DataFrame) -> pd.DataFrame:
+    """A plain table: geometry dropped, index reset."""
+    frame = pd.DataFrame(data)
+    geom = getattr(data, "_geometry_column_name", None)
+    if geom in frame.columns:
+        frame = frame.drop(columns=[geom])
+    return frame.reset_index(drop=True)
+
+
+def _validation(attitudes: pd.DataFrame | None, rejected: pd.DataFrame | None) -> list[_Block]:
+    blocks = [_Block("h2", "Validation summary")]
+    n_ok = len(attitudes) if attitudes is not None else None
+    n_bad = len(rejected) if rejected is not None else None
+    counts = [("accepted rows", n_ok), ("rejected rows", n_bad)]
+    blocks.append(_Block("table", table=pd.DataFrame(
+        [(k, v) for k, v in counts if v is not None], columns=["", "count"])))
+    if rejected is not None and len(rejected):
+        if "reason" not in rejected.columns:
+            raise InputError("the rejects table has no 'reason' column", layer="attitudes_rejected")
+        by_reason = rejected["reason"].astype(str).value_counts().rename_axis("reason")
+        blocks.append(_Block("p", "Rejected rows by reason code:"))
+        blocks.append(_Block("table", table=by_reason.reset_index(name="rows")))
+        cols = [c for c in ("source_row", "reason", "field", "value", "message") if c in rejected]
+        shown = rejected[cols].head(_MAX_REJECT_ROWS)
+        more = len(rejected) - len(shown)
+        note = f" (first {len(shown)}; {more} more in the layer attitudes_rejected)" if more else ""
+        blocks.append(_Block("p", f"Rejected rows{note}:"))
+        blocks.append(_Block("table", table=shown))
+    if attitudes is not None and "flags" in attitudes.columns and len(attitudes):
+        flags = attitudes["flags"].fillna("").astype(str).str.split(",").explode().str.strip()
+        flags = flags[flags != ""]
+        if len(flags):
+            blocks.append(_Block("p", "Warnings on accepted rows (flags):"))
+            blocks.append(_Block("table", table=flags.value_counts().rename_axis("flag")
+                                 .reset_index(name="rows")))
+    if attitudes is not None and "azimuth_ref_input" in attitudes.columns and len(attitudes):
+        refs = attitudes["azimuth_ref_input"].astype(str).value_counts().rename_axis(
+            "north reference of the input")
+        blocks.append(_Block("p", "Azimuths were converted to true north from:"))
+        blocks.append(_Block("table", table=refs.reset_index(name="rows")))
+    return blocks
+
+
+def _spacing(spacing: pd.DataFrame) -> list[_Block]:
+    frame = _frame(spacing)
+    column = next((c for c in _SPACING_COLUMNS if c in frame.columns), None)
+    if column is None:
+        raise InputError(
+            f"the spacing table needs one of the columns {', '.join(_SPACING_COLUMNS)} "
+            f"(metres along transport); it holds {', '.join(map(str, frame.columns))}",
+            layer="spacing",
+        )
+    values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
+    ok = values[np.isfinite(values)]
+    blocks = [_Block("h2", "Thrust spacing")]
+    if len(ok):
+        std = float(np.std(ok, ddof=1)) if len(ok) > 1 else float("nan")
+        stats = [("pairs", len(ok)), ("mean (m)", ok.mean()), ("median (m)", np.median(ok)),
+                 ("standard deviation (m)", std), ("minimum (m)", ok.min()),
+                 ("maximum (m)", ok.max()),
+                 ("coefficient of variation", std / ok.mean() if ok.mean() else float("nan"))]
+        blocks.append(_Block("table", table=pd.DataFrame(stats, columns=["statistic", "value"])))
+    blocks.append(_Block("p", f"Spacing per pair, measured along the transport direction "
+                              f"(column {column}):"))
+    blocks.append(_Block("table", table=frame))
+    return blocks
+
+
+def _formation(order: pd.DataFrame | None, relations: pd.DataFrame | None) -> list[_Block]:
+    blocks = [_Block("h2", "Thrust formation order")]
+    if order is not None:
+        frame = _frame(order)
+        rank = next((c for c in ("rank", "formation_rank", "order") if c in frame.columns), None)
+        if rank is not None:
+            frame = frame.sort_values(rank, kind="stable", na_position="last")
+        blocks.append(_Block("p", "Order of formation, oldest first; out-of-sequence thrusts "
+                                  "are marked."))
+        blocks.append(_Block("table", table=frame))
+    if relations is not None:
+        blocks.append(_Block("p", "Evidence: the relations between thrusts the order rests on."))
+        blocks.append(_Block("table", table=_frame(relations)))
+    return blocks
+
+
+def _provenance(prov: Provenance) -> list[_Block]:
+    blocks = [_Block("h2", "Inputs and provenance"),
+              _Block("p", f"Produced by thrustmap {prov.thrustmap_version} at {prov.created_utc}.")]
+    if prov.inputs:
+        blocks.append(_Block("table", table=pd.DataFrame(
+            [(i.name, i.bytes, i.sha256) for i in prov.inputs],
+            columns=["input file", "bytes", "SHA-256"])))
+    if prov.tools:
+        rows = [(t.name, "; ".join(f"{k} = {v}" for k, v in t.params.items()))
+                for t in prov.tools]
+        blocks.append(_Block("p", "Tools in the order they ran, with their parameters:"))
+        blocks.append(_Block("table", table=pd.DataFrame(rows, columns=["tool", "parameters"])))
+    return blocks
+
+
+def _report_blocks(
+    *,
+    attitudes: pd.DataFrame | None = None,
+    rejected: pd.DataFrame | None = None,
+    domain_stats: pd.DataFrame | None = None,
+    fold_table: pd.DataFrame | None = None,
+    figures: Mapping[str, Any] | None = None,
+    spacing: pd.DataFrame | None = None,
+    formation_order: pd.DataFrame | None = None,
+    relations: pd.DataFrame | None = None,
+    provenance: Provenance | None = None,
+    title: str = "thrustmap review report",
+    caution: str = CAUTION,
+) -> list[_Block]:
+    """The report's content as blocks, shared by the HTML and Markdown renderers.
+
+    See :func:`write_report` for the parameters.
+
+    Examples
+    --------
+    >>> [b.text for b in _report_blocks() if b.kind in ("h1", "h2")]
+    ['thrustmap review report']
+    """
+    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    blocks = [_Block("h1", title), _Block("p", f"Generated by thrustmap {__version__} on {stamp}."),
+              _Block("caution", caution)]
+    if attitudes is not None or rejected is not None:
+        blocks += _validation(attitudes, rejected)
+    if domain_stats is not None:
+        blocks += [_Block("h2", "Statistics per domain"), _Block("table", table=_frame(domain_stats))]
+    if fold_table is not None:
+        blocks += [_Block("h2", "Folds"), _Block("table", table=_frame(fold_table))]
+    if figures:
+        blocks.append(_Block("h2", "Stereonets"))
+        blocks += [_Block("figure", str(name), image=fig) for name, fig in figures.items()]
+    if spacing is not None:
+        blocks += _spacing(spacing)
+    if formation_order is not None or relations is not None:
+        blocks += _formation(formation_order, relations)
+    if provenance is not None:
+        blocks += _provenance(provenance)
+    blocks.append(_Block("caution", caution))
+    return blocks
+
+
+_CSS = """
+body { font: 14px/1.5 system-ui, -apple-system, 'Segoe UI', sans-serif; color: #22252b;
+       background: #f7f4ee; margin: 0; }
+main { max-width: 980px; margin: 0 auto; padding: 24px 28px 48px; background: #fffdf9;
+       box-shadow: 0 0 0 1px #e4dccd; }
+h1 { color: #14213d; border-left: 5px solid #b4532a; padding-left: 10px; margin-bottom: 2px; }
+h2 { color: #14213d; border-bottom: 1px solid #e4dccd; margin-top: 28px; }
+.caution { background: #fff3e2; border: 1px solid #e0b788; color: #5a2a12; border-radius: 6px;
+           padding: 8px 12px; }
+table { border-collapse: collapse; margin: 6px 0 12px; font-size: 13px; }
+th, td { border: 1px solid #e4dccd; padding: 3px 8px; text-align: left; vertical-align: top; }
+th { background: #f1ece2; font-weight: 600; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; }
+figure { display: inline-block; vertical-align: top; margin: 8px 12px 8px 0; }
+figure img { max-width: 420px; border: 1px solid #e4dccd; border-radius: 4px; background: #fff; }
+figcaption { font-size: 12px; color: #5d5446; }
+@media print { body { background: #fff; } main { box-shadow: none; } }
+"""
+
+
+def _html_table(frame: pd.DataFrame) -> str:
+    if not len(frame):
+        return "<p><em>no rows</em></p>"
+    numeric = [pd.api.types.is_numeric_dtype(frame[c]) and not pd.api.types.is_bool_dtype(frame[c])
+               for c in frame.columns]
+    head = "".join(f"<th>{html.escape(str(c))}</th>" for c in frame.columns)
+    rows = []
+    for row in frame.itertuples(index=False, name=None):
+        cells = "".join(
+            f'<td class="num">{html.escape(format_value(v))}</td>' if num
+            else f"<td>{html.escape(format_value(v))}</td>"
+            for v, num in zip(row, numeric, strict=True)
+        )
+        rows.append(f"<tr>{cells}</tr>")
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
+
+
+def _render_html(blocks: list[_Block]) -> str:
+    """Render blocks as one self-contained HTML page (figures embedded as data URIs)."""
+    title = next((b.text for b in blocks if b.kind == "h1"), "thrustmap report")
+    parts = []
+    for b in blocks:
+        if b.kind in ("h1", "h2", "p"):
+            parts.append(f"<{b.kind}>{html.escape(b.text)}</{b.kind}>")
+        elif b.kind == "caution":
+            parts.append(f'<p class="caution"><strong>Caution.</strong> {html.escape(b.text)}</p>')
+        elif b.kind == "table":
+            parts.append(_html_table(b.table))
+        elif b.kind == "figure":
+            uri = thumbnail_uri(b.image, width=840)
+            name = html.escape(b.text)
+            parts.append(f'<figure><img src="{uri}" alt="stereonet {name}">'
+                         f"<figcaption>{name}</figcaption></figure>")
+    body = "\n".join(parts)
+    return (f'<!DOCTYPE html>\n<html lang="en">\n<head>\n<meta charset="utf-8">\n'
+            f'<meta name="viewport" content="width=device-width, initial-scale=1">\n'
+            f"<title>{html.escape(title)}</title>\n<style>{_CSS}</style>\n</head>\n"
+            f"<body><main>\n{body}\n</main></body>\n</html>\n")
+
+
+_MD_SPECIAL = re.compile(r"([\\`*_\[\]|#])")
+
+
+def _md(text: str) -> str:
+    """Markdown-safe text: HTML characters as entities, Markdown punctuation escaped."""
+    text = html.escape(str(text), quote=False).replace("\n", " ")
+    return _MD_SPECIAL.sub(r"\\\1", text)
+
+
+def _md_table(frame: pd.DataFrame) -> str:
+    if not len(frame):
+        return "_no rows_"
+    head = "| " + " | ".join(_md(c) or " " for c in frame.columns) + " |"
+    rule = "|" + "|".join("---" for _ in frame.columns) + "|"
+    rows = ["| " + " | ".join(_md(format_value(v)) for v in row) + " |"
+            for row in frame.itertuples(index=False, name=None)]
+    return "\n".join([head, rule, *rows])
+
+
+def _slug(text: str) -> str:
+    return re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_") or "figure"
+
+
+def _render_markdown(blocks: list[_Block], *, figure_paths: Mapping[str, str]) -> str:
+    """Render blocks as Markdown; figures link to ``figure_paths[name]`` (relative paths)."""
+    parts = []
+    for b in blocks:
+        if b.kind == "h1":
+            parts.append(f"# {_md(b.text)}")
+        elif b.kind == "h2":
+            parts.append(f"## {_md(b.text)}")
+        elif b.kind == "p":
+            parts.append(_md(b.text))
+        elif b.kind == "caution":
+            parts.append(f"> **Caution.** {_md(b.text)}")
+        elif b.kind == "table":
+            parts.append(_md_table(b.table))
+        elif b.kind == "figure":
+            target = figure_paths[b.text].replace(" ", "%20")
+            parts.append(f"![stereonet {_md(b.text)}]({target})")
+    return "\n\n".join(parts) + "\n"
+
+
+def write_report(
+    path: str | os.PathLike[str],
+    *,
+    attitudes: pd.DataFrame | None = None,
+    rejected: pd.DataFrame | None = None,
+    domain_stats: pd.DataFrame | None = None,
+    fold_table: pd.DataFrame | None = None,
+    figures: Mapping[str, Any] | None = None,
+    spacing: pd.DataFrame | None = None,
+    formation_order: pd.DataFrame | None = None,
+    relations: pd.DataFrame | None = None,
+    provenance: Provenance | None = None,
+    title: str = "thrustmap review report",
+    caution: str = CAUTION,
+    overwrite: bool = False,
+) -> dict[str, Path]:
+    """Write the review report as HTML (self-contained) and its Markdown twin.
+
+    Parameters
+    ----------
+    path : str or path-like
+        Target ``.html`` file; the Markdown goes beside it with suffix ``.md``.
+    attitudes, rejected : DataFrame, optional
+        Accepted and rejected rows of the ingest: the validation summary
+        (counts, rejections by reason code, flags, north references).
+    domain_stats : DataFrame, optional
+        One row per domain with its statistics.
+    fold_table : DataFrame, optional
+        Fold axes, interlimb angles and classes.
+    figures : mapping, optional
+        Figure name to stereonet (PNG path, PNG bytes or matplotlib Figure).
+        The HTML embeds them; the Markdown links the given file, or a PNG
+        written to ``<name>_figures/`` for in-memory figures.
+    spacing : DataFrame, optional
+        Thrust spacing per pair, with a ``spacing_m`` (or ``spacing``,
+        ``distance_m``) column in metres: summary statistics and the table.
+    formation_order, relations : DataFrame, optional
+        Thrusts with their formation ``rank`` (1 = oldest) and out-of-sequence
+        flag; the relations (evidence) the order rests on.
+    provenance : Provenance, optional
+        Version, time, inputs with SHA-256 and tool parameters.
+    title : str
+        Report title.
+    caution : str
+        Caution shown at the top and the bottom.
+    overwrite : bool, default False
+        Replace existing files.
+
+    Returns
+    -------
+    dict of str to Path
+        ``html`` and ``markdown`` (and ``figure:<name>`` for written figures).
+
+    Raises
+    ------
+    OutputExistsError
+        When an output exists and ``overwrite`` is false (nothing is written).
+    InputError
+        For a table missing the columns its section needs, or an unreadable figure.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib, pandas as pd
+    >>> out = write_report(pathlib.Path(tempfile.mkdtemp()) / "report.html",
+    ...                    spacing=pd.DataFrame({"pair": ["T1-T2"], "spacing_m": [2500.0]}))
+    >>> "Thrust spacing" in out["markdown"].read_text(encoding="utf-8")
+    True
+    """
+    target = Path(path)
+    md_path = target.with_suffix(".md")
+    for p in (target, md_path):
+        if p.exists() and not overwrite:
+            raise OutputExistsError(f"{p} exists; pass overwrite=True (--overwrite) to replace it")
+    blocks = _report_blocks(
+        attitudes=attitudes, rejected=rejected, domain_stats=domain_stats, fold_table=fold_table,
+        figures=figures, spacing=spacing, formation_order=formation_order, relations=relations,
+        provenance=provenance, title=title, caution=caution,
+    )
+    page = _render_html(blocks)
+    written: dict[str, Path] = {}
+    figure_paths = {}
+    folder = f"{target.stem}_figures"
+    for name, fig in (figures or {}).items():
+        if isinstance(fig, str | os.PathLike) and Path(fig).exists():
+            figure_paths[str(name)] = Path(os.path.relpath(Path(fig).resolve(),
+                                                           target.parent.resolve())).as_posix()
+            continue
+        rel = f"{folder}/{_slug(str(name))}.png"
+        data = thumbnail_png(fig, width=840)
+        written[f"figure:{name}"] = write_bytes_atomic(target.parent / rel, data, overwrite=True)
+        figure_paths[str(name)] = rel
+    written["markdown"] = write_text_atomic(
+        md_path, _render_markdown(blocks, figure_paths=figure_paths), overwrite=overwrite)
+    written["html"] = write_text_atomic(target, page, overwrite=overwrite)
+    logger.info("wrote report %s and %s", target, md_path)
+    return written
