@@ -56,7 +56,7 @@
   }
 
   // one canvas for every thrustmap path: clicks reach the topmost symbol of any layer
-  var CANVAS = L.canvas({ padding: 0.3, tolerance: 5 });
+  var CANVAS = L.canvas({ padding: 0.1, tolerance: 5 });
 
   // ---- symbol geometry, shared by the map layer and the legend ----------
   // codes: 0 inclined plane, 1 horizontal plane, 2 vertical plane,
@@ -563,8 +563,12 @@
     for (var key in TM.counts) counts.setAttribute("data-" + key.replace(/_/g, "-"), String(TM.counts[key]));
     map.getContainer().appendChild(counts);
     TM.map = map;
+    TM.timing = { finish: performance.now() };
     L.Util.requestAnimFrame(function () {
-      L.Util.requestAnimFrame(function () { TM.ready = true; });
+      L.Util.requestAnimFrame(function () {
+        TM.timing.ready = performance.now();
+        TM.ready = true;
+      });
     });
   };
 })();
