@@ -242,10 +242,10 @@ def make_provenance(
     >>> p.created_utc.endswith("Z")
     True
     """
-    when = created_utc or _dt.datetime.now(_dt.timezone.utc)
+    when = created_utc or _dt.datetime.now(_dt.UTC)
     if when.tzinfo is None:
-        when = when.replace(tzinfo=_dt.timezone.utc)
-    stamp = when.astimezone(_dt.timezone.utc).isoformat(timespec="seconds").replace("+00:00", "Z")
+        when = when.replace(tzinfo=_dt.UTC)
+    stamp = when.astimezone(_dt.UTC).isoformat(timespec="seconds").replace("+00:00", "Z")
     records = []
     for path in inputs:
         p = Path(path)

@@ -234,7 +234,7 @@ def map_html(
         legend.append({"key": "attitudes", "title": "Attitudes (true north)",
                        "entries": _attitude_legend(payload, styles)})
     folium.LayerControl(collapsed=False, position="topright").add_to(m)
-    stamp = _dt.datetime.now(_dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    stamp = _dt.datetime.now(_dt.UTC).strftime("%Y-%m-%d %H:%M UTC")
     _Finish({
         "title": title,
         "subtitle": subtitle if subtitle is not None else f"thrustmap {__version__} · {stamp}",

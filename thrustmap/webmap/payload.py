@@ -366,7 +366,7 @@ def rank_colors(rank: np.ndarray) -> list[str]:
     k = np.minimum(pos.astype(int), len(ramp) - 2)
     rgb = ramp[k] * (1 - (pos - k))[:, None] + ramp[k + 1] * (pos - k)[:, None]
     return [
-        "#%02x%02x%02x" % tuple(int(round(v)) for v in c) if good else _UNRANKED
+        "#" + "".join(f"{int(round(v)):02x}" for v in c) if good else _UNRANKED
         for c, good in zip(rgb, ok, strict=True)
     ]
 
