@@ -12,6 +12,7 @@ from __future__ import annotations
 import base64
 import io
 import json
+import logging
 import os
 from collections.abc import Mapping
 from typing import Any
@@ -39,6 +40,8 @@ __all__ = [
     "thumbnail_uri",
     "format_value",
 ]
+
+logger = logging.getLogger(__name__)
 
 PLANE_FEATURES = ("bedding", "cleavage", "foliation", "fault", "thrust", "joint", "vein",
                   "axial_plane")
@@ -575,6 +578,10 @@ def area_payload(
         if label in figures:
             feature["image"] = thumbnail_uri(figures[label])
         features.append(feature)
+    unused = sorted(set(figures) - {f["label"] for f in features})
+    if unused:
+        logger.warning("%s: no feature labelled %s; those figures are not shown",
+                       layer, ", ".join(map(repr, unused)))
     return {
         "features": features,
         "weight": 2.0 if outline else 1.0,
