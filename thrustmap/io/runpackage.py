@@ -244,12 +244,22 @@ def describe_layers(layers: Mapping[str, pd.DataFrame]) -> dict[str, dict[str, A
     return out
 
 
-def _geometry_layers(layers: Mapping[str, pd.DataFrame], what: str) -> dict[str, gpd.GeoDataFrame]:
+def _export_targets(
+    folder: str | os.PathLike[str], layers: Mapping[str, pd.DataFrame], suffix: str,
+    overwrite: bool,
+) -> tuple[Path, dict[str, gpd.GeoDataFrame], dict[str, Path]]:
+    """Geometry layers to export and their target files, all checked before anything is written."""
+    base = Path(folder)
     spatial = {k: v for k, v in layers.items() if _has_geometry(v)}
     tables = sorted(set(layers) - set(spatial))
     if tables:
-        logger.info("%s holds geometry layers only; tables kept in the GeoPackage: %s", what, tables)
-    return spatial
+        logger.info("%s export holds geometry layers only; tables kept in the GeoPackage: %s",
+                    suffix, tables)
+    _check_layers(spatial, source=os.fspath(base))
+    targets = {name: base / f"{name}{suffix}" for name in spatial}
+    for target in targets.values():
+        _check_target(target, overwrite)
+    return base, spatial, targets
 
 
 def write_geojson_layers(
@@ -294,12 +304,7 @@ def write_geojson_layers(
     >>> out["pts"].suffix
     '.geojson'
     """
-    base = Path(folder)
-    spatial = _geometry_layers(layers, "GeoJSON export")
-    _check_layers(spatial, source=os.fspath(base))
-    targets = {name: base / f"{name}.geojson" for name in spatial}
-    for target in targets.values():
-        _check_target(target, overwrite)
+    _, spatial, targets = _export_targets(folder, layers, ".geojson", overwrite)
     for name, frame in spatial.items():
         target = targets[name]
         tmp = _temp_sibling(target, ".geojson")
@@ -394,12 +399,7 @@ def write_shapefile_layers(
     """
     import json
 
-    base = Path(folder)
-    spatial = _geometry_layers(layers, "Shapefile export")
-    _check_layers(spatial, source=os.fspath(base))
-    targets = {name: base / f"{name}.shp" for name in spatial}
-    for target in targets.values():
-        _check_target(target, overwrite)
+    base, spatial, targets = _export_targets(folder, layers, ".shp", overwrite)
     names: dict[str, dict[str, str]] = {}
     for name, frame in spatial.items():
         geom = frame._geometry_column_name
