@@ -12,6 +12,8 @@ import numpy as np
 import pandas as pd
 import shapely
 
+from thrustmap.io.grid import Grid
+
 CRS = "EPSG:32633"
 X0, Y0 = 770000.0, 5100000.0
 
@@ -126,13 +128,6 @@ def fold_axes() -> gpd.GeoDataFrame:
         geometry=shapely.points([X0 - 3000, X0 + 3000], [Y0 + 2000, Y0 + 2000]),
         crs=CRS,
     )
-
-
-class Grid:
-    """Stand-in with the attributes of thrustmap.io.grid.Grid (values, x0, y0, cell, crs)."""
-
-    def __init__(self, values: np.ndarray, x0: float, y0: float, cell: float, crs: str) -> None:
-        self.values, self.x0, self.y0, self.cell, self.crs = values, x0, y0, cell, crs
 
 
 def elevation(nx: int = 120, ny: int = 100, cell: float = 100.0) -> Grid:

@@ -22,10 +22,11 @@ from pyproj import Transformer
 import thrustmap
 from tests.deliver_data import CRS, attitudes, domains, rejected, thrust_traces
 from thrustmap.errors import CRSError, InputError, OutputExistsError
-from thrustmap.io.runpackage import (
+from thrustmap.io.atomic import write_geopackage
+from thrustmap.io.exports import (
+    check_layers,
     shapefile_field_names,
     write_geojson_layers,
-    write_package_layers,
     write_shapefile_layers,
 )
 from thrustmap.provenance import (
@@ -135,10 +136,9 @@ def test_refuses_to_overwrite_and_reserved_names(tmp_path):
     with pytest.raises(InputError, match="reserved"):
         write_run(path, {"provenance": rejected()}, provenance=prov, overwrite=True)
     with pytest.raises(InputError, match="layer bad name.*got 'bad name'"):
-        write_package_layers(path, {"bad name": rejected()}, overwrite=True)
+        write_run(path, {"bad name": rejected()}, provenance=prov, overwrite=True)
     with pytest.raises(CRSError, match="layer attitudes.*no CRS"):
-        write_package_layers(path, {"attitudes": attitudes().set_crs(None, allow_override=True)},
-                             overwrite=True)
+        check_layers({"attitudes": attitudes().set_crs(None, allow_override=True)}, source="x")
 
 
 def test_failure_half_way_leaves_previous_file(tmp_path):
@@ -150,6 +150,8 @@ def test_failure_half_way_leaves_previous_file(tmp_path):
     with pytest.raises(InputError, match="layer late_table.*cannot store"):
         write_run(path, {"attitudes": attitudes(20), "late_table": bad},
                   provenance=make_provenance(), overwrite=True)
+    with pytest.raises(InputError, match="layer late_table"):
+        write_geopackage(path, {"attitudes": attitudes(20), "late_table": bad}, overwrite=True)
     assert path.read_bytes() == before
     assert len(gpd.read_file(path, layer="attitudes")) == 8
     assert [p.name for p in tmp_path.iterdir()] == [p.name for p in tmp_path.iterdir()
@@ -177,7 +179,7 @@ def test_killed_write_leaves_previous_file(tmp_path):
     deadline = time.monotonic() + 120
     temp = []
     while time.monotonic() < deadline and child.poll() is None:
-        temp = [p for p in tmp_path.iterdir() if p.name.startswith(".run.gpkg.")]
+        temp = [p for p in tmp_path.iterdir() if p.name.startswith(".run.") and ".tmp" in p.name]
         if temp and temp[0].stat().st_size > 0:
             break
         time.sleep(0.005)

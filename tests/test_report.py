@@ -6,19 +6,22 @@ import re
 from html.parser import HTMLParser
 
 import matplotlib.pyplot as plt
-import numpy as np
 import pandas as pd
 import pytest
 from PIL import Image
-from scipy import stats
 
 from tests.deliver_data import attitudes, domains, fold_axes, rejected, thrust_traces
 from thrustmap.caution import CAUTION
-from thrustmap.errors import InputError, OutputExistsError
+from thrustmap.errors import OutputExistsError
 from thrustmap.provenance import make_provenance
-from thrustmap.report import write_report
+from thrustmap.report import report_documents, write_report
+from thrustmap.thrusts.spacing import spacing_statistics
 
-SPACING = pd.DataFrame({"pair": ["T1-T2", "T2-T3", "T3-T4"], "spacing_m": [2000.0, 2500.0, 3100.0]})
+# Segments between successive thrusts on the scanlines (metres along transport).
+PAIRS = pd.DataFrame({"hinterland_thrust": ["T1", "T1", "T2", "T2", "T3"],
+                      "foreland_thrust": ["T2", "T2", "T3", "T3", "T4"],
+                      "length_m": [2000.0, 2100.0, 2500.0, 2450.0, 3100.0]})
+SPACING = spacing_statistics(PAIRS, seed=0, n_boot=200)
 RELATIONS = pd.DataFrame({"older": ["T1", "T3"], "younger": ["T3", "T2"],
                           "evidence": ["T3 cuts T1 footwall", "T2 cuts <T3> sheet"]})
 
@@ -85,17 +88,14 @@ def test_markdown_tables_keep_their_shape(tmp_path):
             assert len(widths) == 1, block
 
 
-def test_spacing_statistics_match_scipy(tmp_path):
+def test_spacing_shows_the_thrust_analysis_statistics(tmp_path):
     md = write_report(tmp_path / "r.html", spacing=SPACING)["markdown"].read_text(encoding="utf-8")
-    ref = stats.describe(SPACING["spacing_m"])  # reference: scipy.stats.describe
-    sd = np.sqrt(ref.variance)
-    assert f"| mean (m) | {ref.mean:,.2f} |" in md
-    assert f"| standard deviation (m) | {sd:,.2f} |" in md
-    assert f"| minimum (m) | {ref.minmax[0]:,.0f} |" in md
-    assert f"| coefficient of variation | {sd / ref.mean:.2f} |" in md
-    assert "| median (m) | 2,500 |" in md
-    with pytest.raises(InputError, match="spacing_m.*holds pair, gap"):
-        write_report(tmp_path / "x.html", spacing=pd.DataFrame({"pair": ["a"], "gap": [1.0]}))
+    overall, pairs = md.split("Per pair of successive thrusts")
+    # the overall row over all five segments, then one row per pair; nothing recomputed
+    assert f"| all | 5 | {PAIRS['length_m'].mean():,.0f} |" in overall  # reference: numpy mean
+    assert "| T1-T2 | T1 | T2 | 2 | 2,050 |" in pairs and "T1-T2" not in overall
+    raw = write_report(tmp_path / "x.html", spacing=PAIRS)["markdown"].read_text(encoding="utf-8")
+    assert "| T3 | T4 | 3,100 |" in raw  # any other table is shown as given
 
 
 def test_validation_summary_counts(tmp_path):
@@ -124,13 +124,19 @@ def test_every_section_is_optional(tmp_path):
     assert "<h2>Inputs and provenance</h2>" in text and "Validation summary" not in text
 
 
-def test_figures_linked_or_written_for_markdown(tmp_path):
+def test_figures_written_beside_the_markdown(tmp_path):
     out = _full(tmp_path)
     md = out["markdown"].read_text(encoding="utf-8")
-    assert "![stereonet D1](stereonet_D1.png)" in md
-    written = out["figure:D2 | all poles"]
-    assert written.parent.name == "report_figures" and written.exists()
+    assert "![stereonet D1](report_figures/D1.png)" in md
     assert "(report_figures/D2_all_poles.png)" in md
+    written = out["figure:D2_all_poles.png"]
+    assert written.parent.name == "report_figures" and written.read_bytes()[:4] == b"\x89PNG"
+    with Image.open(out["figure:D1.png"]) as img:
+        assert img.size == (500, 500)  # smaller than the report width: kept as drawn
+    png = (tmp_path / "stereonet_D1.png").read_bytes()
+    docs = report_documents(figures={"a b": png, "a_b": png}, figures_folder="figs")
+    assert sorted(docs.figures) == ["a_b.png", "a_b2.png"]  # names that slug alike stay apart
+    assert "(figs/a_b2.png)" in docs.markdown
 
 
 def test_refuses_to_overwrite_either_twin(tmp_path):

@@ -1,57 +1,60 @@
-"""The deliverable tools run through their declarations, as the CLI and GIS hosts call them."""
+"""The deliverable tools run through their declarations, as the command line calls them."""
 
 from __future__ import annotations
 
-import pandas as pd
 import pytest
 from PIL import Image
 
-from tests.deliver_data import attitudes, domains, fold_axes, rejected, thrust_traces
-from thrustmap.errors import OutputExistsError, ParameterError
+from tests.deliver_data import domains, fold_axes, thrust_traces
+from thrustmap.errors import ParameterError
+from thrustmap.tools.declare import FileOutput
 from thrustmap.tools.deliver import REVIEW_REPORT, TOOLS, WEB_MAP
+from thrustmap.tools.runner import collect_outputs, example_invocation, load_inputs, write_outputs
 
 
-def test_declarations_describe_themselves():
-    assert [t.name for t in TOOLS] == ["web_map", "review_report"]
-    for tool in TOOLS:
-        desc = tool.describe()
-        assert desc["group"] == "deliver" and all(i["optional"] for i in desc["inputs"])
-        assert any(p["name"] == "out" for p in desc["params"])
+@pytest.mark.parametrize("tool", TOOLS, ids=[t.name for t in TOOLS])
+def test_examples_write_every_declared_output(tool, tmp_path):
+    # the same path as the command line: read the sources, run, write the files
+    sources, params = example_invocation(tool, tmp_path / "inputs")
+    inputs = load_inputs(tool, sources, to_crs="EPSG:32633")
+    layers, files = collect_outputs(tool, tool.run(inputs, params))
+    out = tmp_path / "out"
+    write_outputs(layers, files, geopackage=out / "result.gpkg", folder=out, overwrite=False)
+    for output in tool.outputs:
+        assert isinstance(output, FileOutput)
+        if not output.is_folder:
+            text = (out / output.filename).read_text(encoding="utf-8")
+            assert "qualified geologist" in text  # the caution travels with every page
+    if tool is WEB_MAP:
+        page = (out / "map.html").read_text(encoding="utf-8")
+        assert '"attitudes"' in page and "Hillshade (offline)" in page
 
 
-def test_web_map_tool_runs_with_any_subset_of_layers(tmp_path):
+def test_web_map_figures_found_by_domain_name(tmp_path):
     figs = tmp_path / "figures"
     figs.mkdir()
     Image.new("RGB", (50, 50), "white").save(figs / "stereonet_D2.png")
-    out = tmp_path / "map.html"
+    Image.new("RGB", (50, 50), "white").save(figs / "legend.png")
     result = WEB_MAP.run({"domains": domains(), "thrust_traces": thrust_traces()},
-                         {"out": str(out), "figures_dir": str(figs), "symbol_size": "12"})
-    summary = result["map_summary"]
-    assert dict(zip(summary["layer"], summary["features"], strict=True)) == {
-        "thrust_traces": 3, "domains": 2}
-    page = out.read_text(encoding="utf-8")
-    assert page.count('"image":"data:image/png;base64,') == 1  # D2's stereonet, none for D1
-    with pytest.raises(OutputExistsError):
-        WEB_MAP.run({"domains": domains()}, {"out": str(out)})
+                         {"figures_dir": str(figs), "symbol_size": "12"})
+    assert result["map"].count('"image":"data:image/png;base64,') == 1  # D2 only
 
 
 @pytest.mark.parametrize("params, match", [
-    ({}, "'out'.*required"),
-    ({"out": "m.html", "symbol_size": 0.5}, "symbol_size.*below the minimum 2.0 pixels"),
-    ({"out": "m.html", "colour": "red"}, "unknown parameter 'colour'"),
+    ({"symbol_size": 0.5}, "symbol_size.*below the minimum 2.0 pixels"),
+    ({"colour": "red"}, "unknown parameter 'colour'"),
+    ({"elevation": "dem.tif"}, "ESRI ASCII grid"),
+    ({"figures_dir": "no/such/folder"}, "not a folder"),
 ])
-def test_web_map_tool_parameter_errors(params, match):
+def test_web_map_parameter_errors(params, match):
     with pytest.raises(ParameterError, match=match):
         WEB_MAP.run({"domains": domains()}, params)
 
 
-def test_review_report_tool(tmp_path):
-    out = tmp_path / "report.html"
-    result = REVIEW_REPORT.run(
-        {"attitudes": attitudes(), "attitudes_rejected": rejected(), "domains": domains(),
-         "fold_axes": fold_axes(), "thrust_traces": thrust_traces(),
-         "spacing": pd.DataFrame({"pair": ["T1-T2"], "spacing_m": [2500.0]})},
-        {"out": str(out), "title": "Synthetic review"},
-    )
-    assert sorted(result["report_files"]["file"]) == ["report.html", "report.md"]
-    assert "Synthetic review" in out.read_text(encoding="utf-8")
+def test_review_report_returns_both_twins_and_figures(tmp_path):
+    Image.new("RGB", (60, 60), "white").save(tmp_path / "D1.png")
+    result = REVIEW_REPORT.run({"domains": domains(), "fold_axes": fold_axes()},
+                               {"figures_dir": str(tmp_path), "title": "Synthetic review"})
+    assert "<h2>Folds</h2>" in result["report_html"]
+    assert "![stereonet D1](report_figures/D1.png)" in result["report_md"]
+    assert list(result["report_figures"]) == ["D1.png"]

@@ -16,8 +16,9 @@ from PIL import Image
 from pyproj import Transformer
 
 from tests.common import PLANES
-from tests.deliver_data import CRS, X0, Y0, Grid, attitudes, domains, elevation, thrust_traces
+from tests.deliver_data import CRS, X0, Y0, attitudes, domains, elevation, thrust_traces
 from thrustmap.errors import CRSError, InputError, OutputExistsError, ParameterError
+from thrustmap.io.grid import Grid
 from thrustmap.orientation import plane_to_normal
 from thrustmap.webmap import map_html, write_map
 from thrustmap.webmap.assets import leaflet_assets
@@ -180,6 +181,8 @@ def test_hillshade_overlay_refuses_non_grids():
         hillshade_overlay(np.zeros((3, 3)))
     with pytest.raises(CRSError, match="projected"):
         hillshade_overlay(Grid(np.zeros((3, 3)), 15.0, 46.0, 0.01, "EPSG:4326"))
+    with pytest.raises(CRSError, match="no CRS"):
+        hillshade_overlay(Grid(np.zeros((3, 3)), X0, Y0, 10.0))
     with pytest.raises(InputError, match="no valid cell"):
         hillshade_overlay(Grid(np.full((3, 3), np.nan), X0, Y0, 10.0, CRS))
     with pytest.raises(ParameterError, match="cell size"):

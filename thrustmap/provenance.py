@@ -356,12 +356,12 @@ def write_run(
     >>> read_provenance(out["geopackage"]).thrustmap_version == make_provenance().thrustmap_version
     True
     """
-    from thrustmap.io.runpackage import (
+    from thrustmap.io.atomic import write_file, write_geopackage
+    from thrustmap.io.exports import (
+        check_layers,
         describe_layers,
         write_geojson_layers,
-        write_package_layers,
         write_shapefile_layers,
-        write_text_atomic,
     )
 
     if PROVENANCE_LAYER in layers:
@@ -376,19 +376,21 @@ def write_run(
     skipped = [k for k, v in layers.items() if v is None]
     if skipped:
         logger.info("layers not produced by this run, not written: %s", ", ".join(skipped))
-    digest = write_package_layers(
+    check_layers(present, source=os.fspath(target))
+    write_geopackage(
         target,
         {**present, PROVENANCE_LAYER: provenance.to_table()},
         dataset_metadata={METADATA_KEY: json.dumps(record)},
         overwrite=overwrite,
     )
+    digest = file_sha256(target)
     summary = {
         "provenance": record,
         "geopackage": {"name": target.name, "sha256": digest},
         "layers": describe_layers(present),
         "not_produced": skipped,
     }
-    write_text_atomic(sidecar, json.dumps(summary, indent=2) + "\n", overwrite=True)
+    write_file(sidecar, json.dumps(summary, indent=2) + "\n", overwrite=True)
     written = {"geopackage": target, "sidecar": sidecar}
     if geojson_dir is not None:
         for name, p in write_geojson_layers(geojson_dir, present, overwrite=overwrite).items():

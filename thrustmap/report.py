@@ -7,6 +7,7 @@ appears only when its data is given; every text is escaped for its format.
 
 from __future__ import annotations
 
+import base64
 import datetime as _dt
 import html
 import logging
@@ -17,22 +18,21 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-import numpy as np
 import pandas as pd
 
 from thrustmap._version import __version__
 from thrustmap.caution import CAUTION
 from thrustmap.errors import InputError, OutputExistsError
-from thrustmap.io.runpackage import write_bytes_atomic, write_text_atomic
+from thrustmap.io.atomic import write_file
 from thrustmap.provenance import Provenance
-from thrustmap.webmap.payload import format_value, thumbnail_png, thumbnail_uri
+from thrustmap.webmap.payload import format_value, thumbnail_png
 
-__all__ = ["write_report"]
+__all__ = ["ReportDocuments", "report_documents", "write_report"]
 
 logger = logging.getLogger(__name__)
 
 _MAX_REJECT_ROWS = 50
-_SPACING_COLUMNS = ("spacing_m", "spacing", "distance_m")
+_FIGURE_WIDTH = 840  # pixels
 
 
 @dataclass(frozen=True)
@@ -87,27 +87,21 @@ def _validation(attitudes: pd.DataFrame | None, rejected: pd.DataFrame | None) -
 
 
 def _spacing(spacing: pd.DataFrame) -> list[_Block]:
+    """Spacing statistics as the thrust analysis gives them: overall rows first, then per pair."""
     frame = _frame(spacing)
-    column = next((c for c in _SPACING_COLUMNS if c in frame.columns), None)
-    if column is None:
-        raise InputError(
-            f"the spacing table needs one of the columns {', '.join(_SPACING_COLUMNS)} "
-            f"(metres along transport); it holds {', '.join(map(str, frame.columns))}",
-            layer="spacing",
-        )
-    values = pd.to_numeric(frame[column], errors="coerce").to_numpy(dtype=float)
-    ok = values[np.isfinite(values)]
     blocks = [_Block("h2", "Thrust spacing")]
-    if len(ok):
-        std = float(np.std(ok, ddof=1)) if len(ok) > 1 else float("nan")
-        stats = [("pairs", len(ok)), ("mean (m)", ok.mean()), ("median (m)", np.median(ok)),
-                 ("standard deviation (m)", std), ("minimum (m)", ok.min()),
-                 ("maximum (m)", ok.max()),
-                 ("coefficient of variation", std / ok.mean() if ok.mean() else float("nan"))]
-        blocks.append(_Block("table", table=pd.DataFrame(stats, columns=["statistic", "value"])))
-    blocks.append(_Block("p", f"Spacing per pair, measured along the transport direction "
-                              f"(column {column}):"))
-    blocks.append(_Block("table", table=frame))
+    if "hinterland_thrust" in frame.columns:
+        overall = frame["hinterland_thrust"].fillna("").astype(str) == ""
+        blocks += [
+            _Block("p", "Spacing along the transport direction over all pairs and over the "
+                        "pairs of in-sequence thrusts (metres; bootstrap interval of the mean):"),
+            _Block("table", table=frame[overall].drop(columns=["hinterland_thrust",
+                                                               "foreland_thrust"])),
+            _Block("p", "Per pair of successive thrusts, hinterland to foreland:"),
+            _Block("table", table=frame[~overall]),
+        ]
+    else:
+        blocks.append(_Block("table", table=frame))
     return blocks
 
 
@@ -176,7 +170,14 @@ def _report_blocks(
         blocks += [_Block("h2", "Folds"), _Block("table", table=_frame(fold_table))]
     if figures:
         blocks.append(_Block("h2", "Stereonets"))
-        blocks += [_Block("figure", str(name), image=fig) for name, fig in figures.items()]
+        taken: set[str] = set()
+        for name, fig in figures.items():
+            stem = _slug(str(name))
+            file = next(f"{stem}{s}.png" for s in ("", *range(2, len(figures) + 2))
+                        if f"{stem}{s}.png" not in taken)
+            taken.add(file)
+            blocks.append(_Block("figure", str(name),
+                                 image=(file, thumbnail_png(fig, width=_FIGURE_WIDTH))))
     if spacing is not None:
         blocks += _spacing(spacing)
     if formation_order is not None or relations is not None:
@@ -236,7 +237,7 @@ def _render_html(blocks: list[_Block]) -> str:
         elif b.kind == "table":
             parts.append(_html_table(b.table))
         elif b.kind == "figure":
-            uri = thumbnail_uri(b.image, width=840)
+            uri = "data:image/png;base64," + base64.b64encode(b.image[1]).decode("ascii")
             name = html.escape(b.text)
             parts.append(f'<figure><img src="{uri}" alt="stereonet {name}">'
                          f"<figcaption>{name}</figcaption></figure>")
@@ -270,8 +271,8 @@ def _slug(text: str) -> str:
     return re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_") or "figure"
 
 
-def _render_markdown(blocks: list[_Block], *, figure_paths: Mapping[str, str]) -> str:
-    """Render blocks as Markdown; figures link to ``figure_paths[name]`` (relative paths)."""
+def _render_markdown(blocks: list[_Block], *, figures_folder: str) -> str:
+    """Render blocks as Markdown; figures link to their PNG in ``figures_folder`` (relative)."""
     parts = []
     for b in blocks:
         if b.kind == "h1":
@@ -285,7 +286,7 @@ def _render_markdown(blocks: list[_Block], *, figure_paths: Mapping[str, str]) -
         elif b.kind == "table":
             parts.append(_md_table(b.table))
         elif b.kind == "figure":
-            target = figure_paths[b.text].replace(" ", "%20")
+            target = f"{figures_folder}/{b.image[0]}".replace(" ", "%20")
             parts.append(f"![stereonet {_md(b.text)}]({target})")
     return "\n\n".join(parts) + "\n"
 
@@ -321,11 +322,12 @@ def write_report(
         Fold axes, interlimb angles and classes.
     figures : mapping, optional
         Figure name to stereonet (PNG path, PNG bytes or matplotlib Figure).
-        The HTML embeds them; the Markdown links the given file, or a PNG
-        written to ``<name>_figures/`` for in-memory figures.
+        The HTML embeds them; the Markdown links PNG copies written to
+        ``<stem>_figures/`` beside it.
     spacing : DataFrame, optional
-        Thrust spacing per pair, with a ``spacing_m`` (or ``spacing``,
-        ``distance_m``) column in metres: summary statistics and the table.
+        Thrust spacing statistics as :func:`thrustmap.analyze_thrusts` gives
+        them (``pair``, ``hinterland_thrust``, ``foreland_thrust``, ``n``,
+        ``mean_m``, ...): the overall rows, then the pairs.
     formation_order, relations : DataFrame, optional
         Thrusts with their formation ``rank`` (1 = oldest) and out-of-sequence
         flag; the relations (evidence) the order rests on.
@@ -341,7 +343,7 @@ def write_report(
     Returns
     -------
     dict of str to Path
-        ``html`` and ``markdown`` (and ``figure:<name>`` for written figures).
+        ``html``, ``markdown`` and ``figure:<file>`` for each figure written.
 
     Raises
     ------
@@ -354,35 +356,88 @@ def write_report(
     --------
     >>> import tempfile, pathlib, pandas as pd
     >>> out = write_report(pathlib.Path(tempfile.mkdtemp()) / "report.html",
-    ...                    spacing=pd.DataFrame({"pair": ["T1-T2"], "spacing_m": [2500.0]}))
+    ...                    spacing=pd.DataFrame({"pair": ["all"], "n": [12], "mean_m": [2500.0]}))
     >>> "Thrust spacing" in out["markdown"].read_text(encoding="utf-8")
     True
     """
     target = Path(path)
     md_path = target.with_suffix(".md")
-    for p in (target, md_path):
-        if p.exists() and not overwrite:
-            raise OutputExistsError(f"{p} exists; pass overwrite=True (--overwrite) to replace it")
+    folder = f"{target.stem}_figures"
+    docs = report_documents(
+        attitudes=attitudes, rejected=rejected, domain_stats=domain_stats, fold_table=fold_table,
+        figures=figures, spacing=spacing, formation_order=formation_order, relations=relations,
+        provenance=provenance, title=title, caution=caution, figures_folder=folder,
+    )
+    figure_paths = {name: target.parent / folder / name for name in docs.figures}
+    existing = [str(p) for p in (target, md_path, *figure_paths.values()) if p.exists()]
+    if existing and not overwrite:
+        raise OutputExistsError(
+            f"output exists: {', '.join(existing)}; pass overwrite=True (--overwrite) to replace it")
+    written = {f"figure:{name}": write_file(p, docs.figures[name], overwrite=True)
+               for name, p in figure_paths.items()}
+    written["markdown"] = write_file(md_path, docs.markdown, overwrite=True)
+    written["html"] = write_file(target, docs.html, overwrite=True)
+    logger.info("wrote report %s and %s", target, md_path)
+    return written
+
+
+@dataclass(frozen=True)
+class ReportDocuments:
+    """The report's two documents and the figure files the Markdown links to.
+
+    Attributes
+    ----------
+    html : str
+        Self-contained HTML page (figures embedded).
+    markdown : str
+        Markdown twin; figures linked as ``<figures_folder>/<file>``.
+    figures : dict of str to bytes
+        PNG file name (inside the figures folder) to its bytes.
+    """
+
+    html: str
+    markdown: str
+    figures: dict[str, bytes]
+
+
+def report_documents(
+    *,
+    attitudes: pd.DataFrame | None = None,
+    rejected: pd.DataFrame | None = None,
+    domain_stats: pd.DataFrame | None = None,
+    fold_table: pd.DataFrame | None = None,
+    figures: Mapping[str, Any] | None = None,
+    spacing: pd.DataFrame | None = None,
+    formation_order: pd.DataFrame | None = None,
+    relations: pd.DataFrame | None = None,
+    provenance: Provenance | None = None,
+    title: str = "thrustmap review report",
+    caution: str = CAUTION,
+    figures_folder: str = "report_figures",
+) -> ReportDocuments:
+    """The report's HTML and Markdown and its figure files, without writing anything.
+
+    Parameters are those of :func:`write_report`; ``figures_folder`` is the
+    folder, relative to the Markdown file, that will hold the figures.
+
+    Raises
+    ------
+    InputError
+        For a table missing the columns its section needs, or an unreadable figure.
+
+    Examples
+    --------
+    >>> docs = report_documents(title="Empty run")
+    >>> docs.markdown.splitlines()[0], docs.figures
+    ('# Empty run', {})
+    """
     blocks = _report_blocks(
         attitudes=attitudes, rejected=rejected, domain_stats=domain_stats, fold_table=fold_table,
         figures=figures, spacing=spacing, formation_order=formation_order, relations=relations,
         provenance=provenance, title=title, caution=caution,
     )
-    page = _render_html(blocks)
-    written: dict[str, Path] = {}
-    figure_paths = {}
-    folder = f"{target.stem}_figures"
-    for name, fig in (figures or {}).items():
-        if isinstance(fig, str | os.PathLike) and Path(fig).exists():
-            figure_paths[str(name)] = Path(os.path.relpath(Path(fig).resolve(),
-                                                           target.parent.resolve())).as_posix()
-            continue
-        rel = f"{folder}/{_slug(str(name))}.png"
-        data = thumbnail_png(fig, width=840)
-        written[f"figure:{name}"] = write_bytes_atomic(target.parent / rel, data, overwrite=True)
-        figure_paths[str(name)] = rel
-    written["markdown"] = write_text_atomic(
-        md_path, _render_markdown(blocks, figure_paths=figure_paths), overwrite=overwrite)
-    written["html"] = write_text_atomic(target, page, overwrite=overwrite)
-    logger.info("wrote report %s and %s", target, md_path)
-    return written
+    return ReportDocuments(
+        html=_render_html(blocks),
+        markdown=_render_markdown(blocks, figures_folder=figures_folder),
+        figures={b.image[0]: b.image[1] for b in blocks if b.kind == "figure"},
+    )

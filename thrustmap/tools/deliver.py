@@ -1,4 +1,9 @@
-"""Tool declarations for the deliverables: the offline web map and the review report."""
+"""Tool declarations for the deliverables: the offline web map and the review report.
+
+Thin wrappers: they read the optional grid and figures named by parameters,
+call :func:`thrustmap.webmap.map_html` and :func:`thrustmap.report.report_documents`,
+and return the page contents; the runner writes them atomically.
+"""
 
 from __future__ import annotations
 
@@ -8,24 +13,42 @@ from typing import Any
 import pandas as pd
 
 from thrustmap.errors import ParameterError
-from thrustmap.report import write_report
-from thrustmap.tools.declare import LayerInput, LayerOutput, Param, Tool
-from thrustmap.webmap import write_map
+from thrustmap.report import report_documents
+from thrustmap.tools._sample import SAMPLE, scenario
+from thrustmap.tools.declare import Example, FileOutput, LayerInput, Param, Tool
+from thrustmap.webmap import map_html
 
-__all__ = ["TOOLS", "web_map_tool", "review_report_tool", "WEB_MAP", "REVIEW_REPORT"]
+__all__ = ["TOOLS", "WEB_MAP", "REVIEW_REPORT"]
 
-
-def _out(out: str | None, tool: str) -> Path:
-    if not out:
-        raise ParameterError(f"{tool}: parameter 'out' (the file to write) is required")
-    return Path(out)
+_REPORT_FIGURES = "report_figures"
 
 
-def _figures(folder: str | None, domains: pd.DataFrame | None) -> dict[str, Path]:
-    """PNG files named after a domain (``D1.png`` or ``<anything>_D1.png``) in ``folder``."""
-    if not folder or domains is None or "domain" not in domains.columns:
+def _grid(path: str | None) -> Any:
+    if path is None:
+        return None
+    if Path(path).suffix.lower() != ".asc":
+        raise ParameterError(
+            f"elevation = {path!r}: give an ESRI ASCII grid (.asc with its .prj); convert other "
+            "rasters first (e.g. gdal_translate -of AAIGrid)"
+        )
+    from thrustmap.io.grid import read_ascii_grid
+
+    return read_ascii_grid(path)
+
+
+def _pngs(folder: str | None) -> list[Path]:
+    if folder is None:
+        return []
+    if not Path(folder).is_dir():
+        raise ParameterError(f"figures_dir = {folder!r} is not a folder")
+    return sorted(Path(folder).glob("*.png"))
+
+
+def _domain_figures(folder: str | None, domains: pd.DataFrame | None) -> dict[str, Path]:
+    """PNG files named after a domain (``D1.png`` or ``<anything>_D1.png``)."""
+    pngs = _pngs(folder)
+    if not pngs or domains is None or "domain" not in domains.columns:
         return {}
-    pngs = sorted(Path(folder).glob("*.png"))
     found = {}
     for name in domains["domain"].astype(str):
         match = [p for p in pngs if p.stem == name or p.stem.endswith(f"_{name}")]
@@ -34,43 +57,29 @@ def _figures(folder: str | None, domains: pd.DataFrame | None) -> dict[str, Path
     return found
 
 
-def web_map_tool(
+def _web_map(
     attitudes: Any = None,
     thrust_traces: Any = None,
     thrust_sheets: Any = None,
     domains: Any = None,
     fold_axes: Any = None,
     *,
-    out: str | None = None,
-    title: str = "thrustmap structural map",
-    figures_dir: str | None = None,
-    symbol_size: float = 9.0,
-    online_basemap: bool = True,
-    overwrite: bool = False,
-) -> dict[str, pd.DataFrame]:
-    """Write the offline web map of the given layers; returns a count of features per layer.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib, geopandas as gpd, shapely
-    >>> d = gpd.GeoDataFrame({"domain": ["D1"]}, geometry=[shapely.box(7e5, 5.09e6, 7.1e5, 5.1e6)],
-    ...                      crs="EPSG:32633")
-    >>> out = pathlib.Path(tempfile.mkdtemp()) / "map.html"
-    >>> web_map_tool(domains=d, out=str(out))["map_summary"].to_dict("records")
-    [{'layer': 'domains', 'features': 1, 'file': 'map.html'}]
-    """
-    path = _out(out, "web_map")
-    layers = {"attitudes": attitudes, "thrust_traces": thrust_traces,
-              "thrust_sheets": thrust_sheets, "domains": domains, "fold_axes": fold_axes}
-    write_map(path, attitudes=attitudes, thrusts=thrust_traces, sheets=thrust_sheets,
-              domains=domains, fold_axes=fold_axes, figures=_figures(figures_dir, domains),
-              title=title, symbol_size=symbol_size, online_basemap=online_basemap,
-              overwrite=overwrite)
-    rows = [(k, len(v), path.name) for k, v in layers.items() if v is not None]
-    return {"map_summary": pd.DataFrame(rows, columns=["layer", "features", "file"])}
+    title: str,
+    elevation: str | None,
+    figures_dir: str | None,
+    symbol_size: float,
+    online_basemap: bool,
+) -> dict[str, Any]:
+    page = map_html(
+        attitudes=attitudes, thrusts=thrust_traces, sheets=thrust_sheets, domains=domains,
+        fold_axes=fold_axes, elevation=_grid(elevation),
+        figures=_domain_figures(figures_dir, domains), title=title, symbol_size=symbol_size,
+        online_basemap=online_basemap,
+    )
+    return {"map": page}
 
 
-def review_report_tool(
+def _review_report(
     attitudes: Any = None,
     attitudes_rejected: Any = None,
     domains: Any = None,
@@ -79,87 +88,93 @@ def review_report_tool(
     thrust_traces: Any = None,
     thrust_relations: Any = None,
     *,
-    out: str | None = None,
-    title: str = "thrustmap review report",
-    figures_dir: str | None = None,
-    overwrite: bool = False,
-) -> dict[str, pd.DataFrame]:
-    """Write the review report (HTML and Markdown); returns the files written.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib, pandas as pd
-    >>> out = pathlib.Path(tempfile.mkdtemp()) / "report.html"
-    >>> files = review_report_tool(spacing=pd.DataFrame({"spacing_m": [2000.0]}), out=str(out))
-    >>> sorted(files["report_files"]["kind"])
-    ['html', 'markdown']
-    """
-    path = _out(out, "review_report")
-    figures = sorted(Path(figures_dir).glob("*.png")) if figures_dir else []
-    written = write_report(
-        path, attitudes=attitudes, rejected=attitudes_rejected, domain_stats=domains,
-        fold_table=fold_axes, figures={p.stem: p for p in figures}, spacing=spacing,
+    title: str,
+    figures_dir: str | None,
+) -> dict[str, Any]:
+    docs = report_documents(
+        attitudes=attitudes, rejected=attitudes_rejected, domain_stats=domains,
+        fold_table=fold_axes, figures={p.stem: p for p in _pngs(figures_dir)}, spacing=spacing,
         formation_order=thrust_traces, relations=thrust_relations, title=title,
-        overwrite=overwrite,
+        figures_folder=_REPORT_FIGURES,
     )
-    return {"report_files": pd.DataFrame(
-        [(k, p.name) for k, p in written.items()], columns=["kind", "file"])}
+    return {"report_html": docs.html, "report_md": docs.markdown, "report_figures": docs.figures}
 
 
-_OUT = Param("out", "str", None, help="File to write (.html).")
-_OVERWRITE = Param("overwrite", "bool", False, help="Replace existing outputs.")
+def _web_map_example(folder: Path) -> dict[str, str]:
+    return {"attitudes": scenario("stations"), "thrust_traces": scenario("thrust_traces"),
+            "domains": scenario("domains")}
+
+
+def _report_example(folder: Path) -> dict[str, str]:
+    return {"attitudes": scenario("stations"), "domains": scenario("domains"),
+            "thrust_traces": scenario("thrust_traces")}
+
+
+_TITLE_HELP = "Title shown on the page."
 _FIGURES = Param("figures_dir", "str", None,
-                 help="Folder of stereonet PNGs; a file named after a domain goes in its popup.")
+                 "Folder of stereonet PNGs; in the map, a file named after a domain "
+                 "(D1.png or stereonet_D1.png) goes in that domain's popup.")
 
 WEB_MAP = Tool(
-    name="web_map",
+    name="web-map",
     summary="Self-contained offline web map: strike/dip symbols, thrusts, sheets, domains, fold axes.",
-    func=web_map_tool,
-    group="deliver",
+    func=_web_map,
     inputs=(
-        LayerInput("attitudes", "point", "Accepted attitudes (true north).", optional=True),
-        LayerInput("thrust_traces", "line", "Thrust traces with hanging-wall side and rank.",
-                   optional=True),
+        LayerInput("attitudes", "point", "Attitudes with true-north dip direction (or strike) and "
+                   "dip, or trend and plunge.", optional=True),
+        LayerInput("thrust_traces", "line", "Thrust traces with hanging-wall side and formation "
+                   "rank.", optional=True),
         LayerInput("thrust_sheets", "polygon", "Thrust sheets.", optional=True),
-        LayerInput("domains", "polygon", "Structural domains with statistics.", optional=True),
+        LayerInput("domains", "polygon", "Structural domains with their statistics.",
+                   optional=True),
         LayerInput("fold_axes", "any", "Fold axes with trend and plunge.", optional=True),
     ),
     params=(
-        _OUT,
-        Param("title", "str", "thrustmap structural map", help="Map title."),
+        Param("title", "str", "thrustmap structural map", _TITLE_HELP),
+        Param("elevation", "str", None, "Elevation grid for the offline hillshade: path of an "
+              "ESRI ASCII grid (.asc, with its .prj)."),
         _FIGURES,
-        Param("symbol_size", "float", 9.0, help="Half-length of a strike line.", unit="pixels",
+        Param("symbol_size", "float", 9.0, "Half-length of a strike line.", unit="pixels",
               minimum=2.0, maximum=100.0),
-        Param("online_basemap", "bool", True,
-              help="Offer an online base map toggle (off at opening)."),
-        _OVERWRITE,
+        Param("online_basemap", "bool", True, "Offer an online base map toggle (off at opening)."),
     ),
-    outputs=(LayerOutput("map_summary", "table", "Features drawn per layer."),),
+    outputs=(FileOutput("map", "map.html", "The web map: one HTML file that works offline."),),
+    group="deliver",
+    example=Example(
+        _web_map_example,
+        {"elevation": str(SAMPLE / "elevation.asc"), "title": "Synthetic belt (invented data)"},
+        "The synthetic scenario's stations, thrust traces and domains over its hillshade.",
+    ),
 )
 
 REVIEW_REPORT = Tool(
-    name="review_report",
-    summary="Review report (HTML and Markdown): validation, domain statistics, folds, spacing, order.",
-    func=review_report_tool,
-    group="deliver",
+    name="review-report",
+    summary="Review report (HTML and Markdown): validation, domain statistics, folds, stereonets, "
+            "spacing, formation order, caution.",
+    func=_review_report,
     inputs=(
         LayerInput("attitudes", "point", "Accepted attitudes.", optional=True),
         LayerInput("attitudes_rejected", "table", "Rejected rows with reason codes.",
                    optional=True),
         LayerInput("domains", "polygon", "Domains with their statistics.", optional=True),
         LayerInput("fold_axes", "any", "Fold table.", optional=True),
-        LayerInput("spacing", "table", "Thrust spacing per pair (spacing_m).", optional=True),
-        LayerInput("thrust_traces", "line", "Thrusts with formation rank.", optional=True),
+        LayerInput("spacing", "table", "Thrust spacing statistics.", optional=True),
+        LayerInput("thrust_traces", "line", "Thrusts with their formation rank.", optional=True),
         LayerInput("thrust_relations", "table", "Evidence for the formation order.",
                    optional=True),
     ),
-    params=(
-        _OUT,
-        Param("title", "str", "thrustmap review report", help="Report title."),
-        _FIGURES,
-        _OVERWRITE,
+    params=(Param("title", "str", "thrustmap review report", _TITLE_HELP), _FIGURES),
+    outputs=(
+        FileOutput("report_html", "report.html", "The report, self-contained."),
+        FileOutput("report_md", "report.md", "Its Markdown twin."),
+        FileOutput("report_figures", f"{_REPORT_FIGURES}/", "Stereonets the Markdown links to."),
     ),
-    outputs=(LayerOutput("report_files", "table", "Files written."),),
+    group="deliver",
+    example=Example(
+        _report_example,
+        {"title": "Synthetic belt review (invented data)"},
+        "A report on the synthetic scenario's stations, domains and thrust traces.",
+    ),
 )
 
 TOOLS = (WEB_MAP, REVIEW_REPORT)

@@ -19,7 +19,7 @@ from folium.template import Template
 from thrustmap._version import __version__
 from thrustmap.caution import CAUTION
 from thrustmap.errors import InputError, ParameterError
-from thrustmap.io.runpackage import write_text_atomic
+from thrustmap.io.atomic import write_file
 from thrustmap.webmap.assets import asset_text, leaflet_assets
 from thrustmap.webmap.hillshade import hillshade_overlay
 from thrustmap.webmap.payload import (
@@ -335,6 +335,6 @@ def write_map(
         subtitle=subtitle, online_basemap=online_basemap, symbol_size=symbol_size,
         caution=caution,
     )
-    out = write_text_atomic(path, page, overwrite=overwrite)
+    out = write_file(path, page, overwrite=overwrite)
     logger.info("wrote web map %s (%d bytes)", out, len(page.encode("utf-8")))
     return out

@@ -23,6 +23,7 @@ import pandas as pd
 import shapely
 
 from thrustmap.errors import CRSError, InputError
+from thrustmap.orientation import strike_to_dip_direction
 
 __all__ = [
     "PLANE_FEATURES",
@@ -257,15 +258,17 @@ def _orientation_payload(
     }
 
 
-_ATTITUDE_POPUP = ("station", "feature", "source_row", "trend", "plunge", "sense", "flags",
+_ATTITUDE_POPUP = ("station", "station_id", "source_row", "trend", "plunge", "sense", "flags",
                    "declination", "date", "note", "notes")
 
 
 def attitude_payload(attitudes: gpd.GeoDataFrame) -> dict[str, Any]:
     """Strike-and-dip symbols and line arrows from an attitude table (CONTRACT schema).
 
-    Planes use ``dip_direction``/``dip`` and lines ``trend``/``plunge``, all
-    true north (a table whose ``azimuth_ref`` is not ``true`` is refused).
+    Planes use ``dip_direction``/``dip`` (or right-hand-rule ``strike``/``dip``)
+    and lines ``trend``/``plunge``, all true north (a table whose
+    ``azimuth_ref`` is not ``true`` is refused). Without a ``kind`` column a
+    row with a dip is a plane, any other a line.
     The style (colour, tick shape) follows ``feature``.
 
     Raises
@@ -288,6 +291,9 @@ def attitude_payload(attitudes: gpd.GeoDataFrame) -> dict[str, Any]:
     frame = _to_lonlat(attitudes, "attitudes")
     _check_north(frame, "attitudes")
     _check_points(frame, "attitudes")
+    if "dip_direction" not in frame.columns and "strike" in frame.columns:
+        # right-hand-rule strike, as field layers store it: the dip is 90 degrees clockwise
+        frame = frame.assign(dip_direction=strike_to_dip_direction(frame["strike"].to_numpy(float)))
     kind = _kind(frame)
     plane = kind == "plane"
     if plane.any():
@@ -311,7 +317,7 @@ def attitude_payload(attitudes: gpd.GeoDataFrame) -> dict[str, Any]:
     for k, (_, _, _, features) in enumerate(SYMBOL_STYLES):
         style = np.where(np.isin(feature, features), k, style)
     styles = [{"name": name, "color": color, "tick": tick} for name, color, tick, _ in SYMBOL_STYLES]
-    popup = [c for c in _ATTITUDE_POPUP if c in frame.columns and c != "feature"]
+    popup = [c for c in _ATTITUDE_POPUP if c in frame.columns]
     return _orientation_payload(frame, az, val, code, style, styles, popup)
 
 
@@ -423,7 +429,8 @@ def thrust_payload(thrusts: gpd.GeoDataFrame) -> dict[str, Any]:
 
     Columns read when present: ``thrust_id`` or ``name`` (label),
     ``hw_side`` / ``hw_dip_direction`` (teeth side), ``rank`` (or
-    ``formation_rank``/``order``; 1 = oldest) and ``out_of_sequence``.
+    ``formation_rank``/``order``; 1 = oldest) and ``out_of_sequence`` (or
+    ``sequence`` = ``out``, as :func:`thrustmap.analyze_thrusts` writes it).
 
     Examples
     --------
@@ -438,7 +445,12 @@ def thrust_payload(thrusts: gpd.GeoDataFrame) -> dict[str, Any]:
     rank_col = _first_column(frame, ("rank", "formation_rank", "order"))
     rank = frame[rank_col].to_numpy(dtype=float) if rank_col else np.full(len(frame), np.nan)
     oos_col = _first_column(frame, ("out_of_sequence", "oos"))
-    oos = frame[oos_col].fillna(False).astype(bool).to_numpy() if oos_col else np.zeros(len(frame), bool)
+    if oos_col:
+        oos = frame[oos_col].fillna(False).astype(bool).to_numpy()
+    elif "sequence" in frame.columns:  # thrustmap.analyze_thrusts: "in" / "out"
+        oos = (frame["sequence"].astype(str).str.lower() == "out").to_numpy()
+    else:
+        oos = np.zeros(len(frame), bool)
     id_col = _first_column(frame, ("thrust_id", "name"))
     side = _hanging_wall_side(frame)
     colors = rank_colors(rank)
