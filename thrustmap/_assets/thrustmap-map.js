@@ -16,6 +16,7 @@
 
   var RAD = Math.PI / 180;
   var LABEL_LIMIT = 1500; // labels only when this few symbols are in view
+  var LABEL_CELL = 22; // pixels: at most one dip label per cell
   var FONT = "600 10px system-ui, -apple-system, 'Segoe UI', sans-serif";
 
   function dir(az) {
@@ -223,12 +224,16 @@
         ctx.textBaseline = "middle";
         ctx.lineWidth = 3;
         ctx.strokeStyle = "rgba(255,255,255,0.9)";
-        var val = this._data.val;
+        var val = this._data.val, taken = new Set(), cell = LABEL_CELL;
         for (k = 0; k < nv; k++) {
           i = this._visible[k];
           var code = this._code[i];
           if (code === 1 || code === 2 || code === 6 || val[i] === null) continue;
           var a = labelAnchor(code, this._x[i], this._y[i], this._az[i], s);
+          // one label per cell of the screen: crowded labels are left out, not overprinted
+          var key = Math.floor(a[0] / cell) + ":" + Math.floor(a[1] / (cell * 0.6));
+          if (taken.has(key)) continue;
+          taken.add(key);
           ctx.fillStyle = styles[this._style[i]].color;
           labelText(ctx, String(val[i]), a[0], a[1]);
         }
