@@ -113,6 +113,8 @@ def test_formation_order_sorted_oldest_first(tmp_path):
     rows = [ln for ln in md.splitlines() if ln.startswith("| T")]
     assert [r.split(" | ")[0] for r in rows[:3]] == ["| T1", "| T3", "| T2"]
     assert "T2 cuts &lt;T3&gt; sheet" in md
+    order = md.split("## Thrust formation order")[1].split("Evidence:")[0]
+    assert "out\\_of\\_sequence" in order and "hw\\_dip\\_direction" not in order
 
 
 def test_every_section_is_optional(tmp_path):

@@ -32,6 +32,8 @@ __all__ = ["ReportDocuments", "report_documents", "write_report"]
 logger = logging.getLogger(__name__)
 
 _MAX_REJECT_ROWS = 50
+_ORDER_COLUMNS = ("thrust_id", "name", "rank", "formation_rank", "order", "sequence",
+                  "out_of_sequence", "sequence_detail", "contradiction", "hw_side", "dip")
 _FIGURE_WIDTH = 840  # pixels
 
 
@@ -112,6 +114,9 @@ def _formation(order: pd.DataFrame | None, relations: pd.DataFrame | None) -> li
         rank = next((c for c in ("rank", "formation_rank", "order") if c in frame.columns), None)
         if rank is not None:
             frame = frame.sort_values(rank, kind="stable", na_position="last")
+        shown = [c for c in _ORDER_COLUMNS if c in frame.columns]
+        if len(shown) >= 2:  # the order and its reasons; the full trace table is in the GeoPackage
+            frame = frame[shown]
         blocks.append(_Block("p", "Order of formation, oldest first; out-of-sequence thrusts "
                                   "are marked."))
         blocks.append(_Block("table", table=frame))
@@ -197,6 +202,7 @@ h1 { color: #14213d; border-left: 5px solid #b4532a; padding-left: 10px; margin-
 h2 { color: #14213d; border-bottom: 1px solid #e4dccd; margin-top: 28px; }
 .caution { background: #fff3e2; border: 1px solid #e0b788; color: #5a2a12; border-radius: 6px;
            padding: 8px 12px; }
+.wide { overflow-x: auto; }
 table { border-collapse: collapse; margin: 6px 0 12px; font-size: 13px; }
 th, td { border: 1px solid #e4dccd; padding: 3px 8px; text-align: left; vertical-align: top; }
 th { background: #f1ece2; font-weight: 600; }
@@ -222,7 +228,8 @@ def _html_table(frame: pd.DataFrame) -> str:
             for v, num in zip(row, numeric, strict=True)
         )
         rows.append(f"<tr>{cells}</tr>")
-    return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(rows)}</tbody></table>"
+    return (f'<div class="wide"><table><thead><tr>{head}</tr></thead>'
+            f"<tbody>{''.join(rows)}</tbody></table></div>")
 
 
 def _render_html(blocks: list[_Block]) -> str:
