@@ -7,6 +7,7 @@ browser is a failure.
 from __future__ import annotations
 
 import os
+from pathlib import Path
 
 import geopandas as gpd
 import numpy as np
@@ -211,3 +212,44 @@ def test_page_has_no_remote_assets(tmp_path):
     assert "tile.openstreetmap.org" not in lower
     assert "<script>alert(1)" not in lower  # the note is escaped inside the page's JSON
     assert "BSD 2-Clause License" in page  # Leaflet's licence travels with its code
+
+
+def test_sample_scenario_map_offline(tmp_path, open_map):
+    import pandas as pd
+
+    import thrustmap
+    from thrustmap.io.grid import read_ascii_grid
+
+    sample = Path(thrustmap.__file__).resolve().parents[1] / "sample_gis"
+    if not sample.is_dir():
+        pytest.skip("the bundled sample_gis/ exists only in a source checkout")
+    field = thrustmap.read_attitudes(sample / "field_sheet.csv", crs=4326, azimuth_ref="magnetic",
+                                     working_crs=32633).accepted
+    gpkg = sample / "scenario.gpkg"
+    traces = gpd.read_file(gpkg, layer="thrust_traces")
+    found = thrustmap.analyze_thrusts(
+        traces, study_area=gpd.read_file(gpkg, layer="study_area"),
+        age_constraints=pd.read_csv(sample / "age_constraints.csv"), n_boot=50)
+    domains_ = gpd.read_file(gpkg, layer="domains")
+    path = write_map(tmp_path / "map.html", attitudes=field, thrusts=found.traces,
+                     sheets=found.sheets, domains=domains_,
+                     elevation=read_ascii_grid(sample / "elevation.asc"),
+                     title="Synthetic scenario (invented data)")
+    page, _ = open_map(path)
+    assert page.evaluate("thrustmap.counts") == {
+        "attitudes": len(field), "thrust_traces": len(traces),
+        "thrust_sheets": len(found.sheets), "domains": len(domains_)}
+    # the field note holding a script tag: shown as text in its popup, never run
+    noted = field[field["notes"].astype(str).str.contains("<script>", regex=False)]
+    assert len(noted) == 1
+    lon, lat = _to_lonlat(noted.geometry.x.iloc[0], noted.geometry.y.iloc[0])
+    page.evaluate(f"thrustmap.map.setView([{lat}, {lon}], 16, {{animate: false}})")
+    page.wait_for_timeout(300)
+    page.mouse.click(*_container_point(page, lon, lat))
+    popup = page.locator(".leaflet-popup-content")
+    popup.wait_for(state="visible", timeout=5000)
+    assert "<script>" in popup.inner_text() and popup.locator("script").count() == 0
+    # every measurement of that station is listed, not only the topmost symbol
+    same_place = int(field.geometry.geom_equals(noted.geometry.iloc[0]).sum())
+    assert same_place > 1 and popup.locator(".tm-pop").count() >= min(same_place, 8)
+    page.screenshot(path=tmp_path / "scenario.png")

@@ -17,6 +17,7 @@
   var RAD = Math.PI / 180;
   var LABEL_LIMIT = 1500; // labels only when this few symbols are in view
   var LABEL_CELL = 22; // pixels: at most one dip label per cell
+  var POPUP_LIMIT = 8; // measurements listed in one popup
   var FONT = "600 10px system-ui, -apple-system, 'Segoe UI', sans-serif";
 
   function dir(az) {
@@ -150,7 +151,7 @@
       this._byStyle = [];
       for (var s = 0; s < data.styles.length; s++) this._byStyle.push([]);
       for (var i = 0; i < n; i++) this._byStyle[this._style[i]].push(i);
-      this._hit = -1;
+      this._hits = [];
       this.on("click", this._openPopup, this);
     },
 
@@ -243,23 +244,28 @@
     },
 
     _containsPoint: function (p) {
-      var best = -1, bestD = Infinity, tol = this.options.size + this._clickTolerance();
-      var lim = tol * tol;
+      // every symbol under the pointer: a station often holds several measurements
+      var tol = this.options.size + this._clickTolerance(), lim = tol * tol, hits = [];
       for (var k = 0; k < this._nVisible; k++) {
         var i = this._visible[k], dx = this._x[i] - p.x, dy = this._y[i] - p.y;
         var dd = dx * dx + dy * dy;
-        if (dd <= lim && dd < bestD) { best = i; bestD = dd; }
+        if (dd <= lim) hits.push([dd, i]);
       }
-      this._hit = best;
-      return best >= 0;
+      hits.sort(function (a, b) { return a[0] - b[0] || a[1] - b[1]; });
+      this._hits = hits.slice(0, POPUP_LIMIT).map(function (h) { return h[1]; });
+      this._more = Math.max(0, hits.length - POPUP_LIMIT);
+      return hits.length > 0;
     },
 
     _openPopup: function () {
-      var i = this._hit;
-      if (i < 0) return;
-      L.popup({ maxWidth: 320, className: "tm-popup" })
-        .setLatLng([this._lat[i], this._lon[i]])
-        .setContent(this.popupContent(i))
+      var hits = this._hits || [];
+      if (!hits.length) return;
+      var box = el("div", "tm-pop-list");
+      for (var h = 0; h < hits.length; h++) box.appendChild(this.popupContent(hits[h]));
+      if (this._more) box.appendChild(el("div", "tm-more", "+ " + this._more + " more here: zoom in"));
+      L.popup({ maxWidth: 320, maxHeight: 360, className: "tm-popup" })
+        .setLatLng([this._lat[hits[0]], this._lon[hits[0]]])
+        .setContent(box)
         .openOn(this._map);
     },
 

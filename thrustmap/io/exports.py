@@ -1,8 +1,8 @@
 """Exports of a run's layers besides the GeoPackage: GeoJSON (RFC 7946) and Shapefile.
 
-Each file is written through a temporary file in the target's folder and
-renamed into place (:mod:`thrustmap.io.atomic`), so a reader never sees a
-partial file; every target is checked before the first is written.
+Each file is written atomically by :func:`thrustmap.io.write.write_layers`, so
+a reader never sees a partial file; every target is checked before the first
+is written.
 """
 
 from __future__ import annotations
@@ -17,11 +17,10 @@ from typing import Any
 
 import geopandas as gpd
 import pandas as pd
-import pyogrio
 
 from thrustmap.errors import CRSError, InputError, OutputExistsError
-from thrustmap.io._atomic import atomic_paths
-from thrustmap.io.atomic import atomic_path, write_file
+from thrustmap.io.atomic import write_file
+from thrustmap.io.write import write_layers
 
 __all__ = [
     "check_layers",
@@ -34,7 +33,6 @@ __all__ = [
 logger = logging.getLogger(__name__)
 
 _LAYER_NAME = re.compile(r"^[A-Za-z_][A-Za-z0-9_]*$")
-_SHAPEFILE_PARTS = (".shp", ".shx", ".dbf", ".prj", ".cpg")
 
 
 def check_layers(layers: Mapping[str, pd.DataFrame], *, source: str) -> None:
@@ -162,10 +160,8 @@ def write_geojson_layers(
     """
     _, spatial, targets = _export_targets(folder, layers, ".geojson", overwrite)
     for name, frame in spatial.items():
-        with atomic_path(targets[name], overwrite=True) as tmp:
-            pyogrio.write_dataframe(
-                frame.to_crs("EPSG:4326"), tmp, driver="GeoJSON", layer=name, RFC7946="YES"
-            )
+        write_layers(targets[name], {name: frame.to_crs("EPSG:4326")}, overwrite=True,
+                     layer_options={"RFC7946": "YES"})
     return targets
 
 
@@ -214,8 +210,7 @@ def write_shapefile_layers(
 
     Field names longer than the dBASE limit of 10 characters are shortened by
     :func:`shapefile_field_names`; the mapping of every layer is written to
-    ``fieldnames.json`` in the folder. Each layer is first written to a
-    temporary folder beside the target, then its parts are renamed into place.
+    ``fieldnames.json`` in the folder.
 
     Parameters
     ----------
@@ -253,11 +248,7 @@ def write_shapefile_layers(
         geom = frame._geometry_column_name
         mapping = shapefile_field_names([c for c in frame.columns if c != geom])
         names[name] = {v: k for k, v in mapping.items() if k != v}
-        parts = [base / f"{name}{part}" for part in _SHAPEFILE_PARTS]
-        with atomic_paths(*parts, overwrite=True) as temps:
-            # GDAL writes every part beside the .shp, with the same stem: all in the temp folder
-            pyogrio.write_dataframe(frame.rename(columns=mapping), temps[0],
-                                    driver="ESRI Shapefile", encoding="UTF-8")
+        write_layers(targets[name], {name: frame.rename(columns=mapping)}, overwrite=True)
     index = base / "fieldnames.json"
     known = json.loads(index.read_text(encoding="utf-8")) if index.exists() else {}
     known.update(names)

@@ -37,6 +37,7 @@ def write_layers(
     engine: str | None = None,
     driver: str | None = None,
     keep_layers: bool = True,
+    layer_options: Mapping[str, str] | None = None,
 ) -> Path:
     """Write named layers to one file, atomically.
 
@@ -60,6 +61,9 @@ def write_layers(
     keep_layers : bool, default True
         When overwriting a GeoPackage, keep its layers not in ``layers``; False
         writes a new file holding only ``layers``. Keyword only.
+    layer_options : mapping of str to str, optional
+        GDAL layer creation options of the driver for geometry layers, e.g.
+        ``{"RFC7946": "YES"}`` for GeoJSON. Keyword only.
 
     Returns
     -------
@@ -109,7 +113,8 @@ def write_layers(
         if driver == "GPKG" and keep_layers and path.exists():
             shutil.copy2(path, target)
         for name, frame in layers.items():
-            _write_one(target, name, frame, driver=driver, engine=engine)
+            _write_one(target, name, frame, driver=driver, engine=engine,
+                       options=dict(layer_options or {}))
     log.debug("wrote %s (%s)", parts[0], ", ".join(layers))
     return parts[0]
 
@@ -133,11 +138,13 @@ def _is_table(frame: pd.DataFrame) -> bool:
     return frame.active_geometry_name is None or frame.active_geometry_name not in frame
 
 
-def _write_one(path: Path, name: str, frame: pd.DataFrame, *, driver: str, engine: str) -> None:
+def _write_one(
+    path: Path, name: str, frame: pd.DataFrame, *, driver: str, engine: str, options: dict[str, str]
+) -> None:
     """Write one layer into ``path`` (created or extended)."""
     layer = {"layer": name} if driver == "GPKG" else {}
     if not _is_table(frame):
-        frame.to_file(path, driver=driver, engine=engine, **layer)
+        frame.to_file(path, driver=driver, engine=engine, **layer, **options)
     elif engine == "pyogrio":
         import pyogrio
 
