@@ -147,7 +147,7 @@ def test_failure_half_way_leaves_previous_file(tmp_path):
     before = path.read_bytes()
     # The GeoPackage driver has no duration type: the second layer fails after the first is written.
     bad = pd.DataFrame({"elapsed": pd.to_timedelta([1, 2], unit="s")})
-    with pytest.raises(InputError, match="layer late_table.*cannot store"):
+    with pytest.raises(InputError, match="layer late_table, field 'elapsed'.*cannot store"):
         write_run(path, {"attitudes": attitudes(20), "late_table": bad},
                   provenance=make_provenance(), overwrite=True)
     with pytest.raises(InputError, match="layer late_table"):
