@@ -136,7 +136,7 @@ def _encode_column(series: pd.Series) -> Any:
     if pd.api.types.is_bool_dtype(series):
         return ["yes" if v else "no" for v in series]
     if pd.api.types.is_numeric_dtype(series):
-        return [None if v is None else v for v in _round(series, 2)]
+        return _round(series, 2)
     texts = [format_value(v) for v in series]
     uniques = sorted(set(texts))
     if len(texts) > 8 and len(uniques) <= len(texts) // 4:
