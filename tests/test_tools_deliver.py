@@ -51,10 +51,10 @@ def test_web_map_parameter_errors(params, match):
         WEB_MAP.run({"domains": domains()}, params)
 
 
-def test_review_report_returns_both_twins_and_figures(tmp_path):
+def test_review_report_returns_both_twins(tmp_path):
     Image.new("RGB", (60, 60), "white").save(tmp_path / "D1.png")
     result = REVIEW_REPORT.run({"domains": domains(), "fold_axes": fold_axes()},
                                {"figures_dir": str(tmp_path), "title": "Synthetic review"})
     assert "<h2>Folds</h2>" in result["report_html"]
-    assert "![stereonet D1](report_figures/D1.png)" in result["report_md"]
-    assert list(result["report_figures"]) == ["D1.png"]
+    assert result["report_html"].count('src="data:image/png;base64,') == 1
+    assert "_Stereonet D1: in the HTML report._" in result["report_md"]

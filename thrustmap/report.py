@@ -226,8 +226,11 @@ def _slug(text: str) -> str:
     return re.sub(r"[^A-Za-z0-9_-]+", "_", text).strip("_") or "figure"
 
 
-def _render_markdown(blocks: list[_Block], *, figures_folder: str) -> str:
-    """Render blocks as Markdown; figures link to their PNG in ``figures_folder`` (relative)."""
+def _render_markdown(blocks: list[_Block], *, figures_folder: str | None) -> str:
+    """Render blocks as Markdown; figures link to their PNG in ``figures_folder`` (relative).
+
+    Without a folder a figure is named, and left to the HTML, which embeds it.
+    """
     parts = []
     for b in blocks:
         if b.kind == "h1":
@@ -240,6 +243,8 @@ def _render_markdown(blocks: list[_Block], *, figures_folder: str) -> str:
             parts.append(f"> **Caution.** {_md(b.text)}")
         elif b.kind == "table":
             parts.append(_md_table(b.table))
+        elif b.kind == "figure" and figures_folder is None:
+            parts.append(f"_Stereonet {_md(b.text)}: in the HTML report._")
         elif b.kind == "figure":
             target = f"{figures_folder}/{b.image[0]}".replace(" ", "%20")
             parts.append(f"![stereonet {_md(b.text)}]({target})")
@@ -368,12 +373,13 @@ def report_documents(
     provenance: Provenance | None = None,
     title: str = "thrustmap review report",
     caution: str = CAUTION,
-    figures_folder: str = "report_figures",
+    figures_folder: str | None = "report_figures",
 ) -> ReportDocuments:
     """The report's HTML and Markdown and its figure files, without writing anything.
 
     Parameters are those of :func:`write_report`; ``figures_folder`` is the
-    folder, relative to the Markdown file, that will hold the figures.
+    folder, relative to the Markdown file, that will hold the figures (None:
+    the Markdown names each figure and leaves it to the HTML).
 
     Raises
     ------

@@ -20,9 +20,6 @@ from thrustmap.webmap import map_html
 
 __all__ = ["TOOLS", "WEB_MAP", "REVIEW_REPORT"]
 
-_REPORT_FIGURES = "report_figures"
-
-
 def _grid(path: str | None) -> Any:
     if path is None:
         return None
@@ -91,13 +88,15 @@ def _review_report(
     title: str,
     figures_dir: str | None,
 ) -> dict[str, Any]:
+    # The figures stay embedded in the HTML: the Markdown names them (the tool's
+    # outputs are the two documents, whatever figures there are).
     docs = report_documents(
         attitudes=attitudes, rejected=attitudes_rejected, domain_stats=domains,
         fold_table=fold_axes, figures={p.stem: p for p in _pngs(figures_dir)}, spacing=spacing,
         formation_order=thrust_traces, relations=thrust_relations, title=title,
-        figures_folder=_REPORT_FIGURES,
+        figures_folder=None,
     )
-    return {"report_html": docs.html, "report_md": docs.markdown, "report_figures": docs.figures}
+    return {"report_html": docs.html, "report_md": docs.markdown}
 
 
 def _web_map_example(folder: Path) -> dict[str, str]:
@@ -166,8 +165,8 @@ REVIEW_REPORT = Tool(
     params=(Param("title", "str", "thrustmap review report", _TITLE_HELP), _FIGURES),
     outputs=(
         FileOutput("report_html", "report.html", "The report, self-contained."),
-        FileOutput("report_md", "report.md", "Its Markdown twin."),
-        FileOutput("report_figures", f"{_REPORT_FIGURES}/", "Stereonets the Markdown links to."),
+        FileOutput("report_md", "report.md", "Its Markdown twin (figures named, embedded in "
+                   "the HTML)."),
     ),
     group="deliver",
     example=Example(
