@@ -16,22 +16,11 @@ from thrustmap.errors import ParameterError
 from thrustmap.report import report_documents
 from thrustmap.tools._sample import SAMPLE, scenario
 from thrustmap.tools.declare import Example, FileOutput, LayerInput, Param, Tool
+# the same elevation-grid parameter handling as the wedge and section tools
+from thrustmap.tools.wedge import _load_grid
 from thrustmap.webmap import map_html
 
 __all__ = ["TOOLS", "WEB_MAP", "REVIEW_REPORT"]
-
-def _grid(path: str | None) -> Any:
-    if path is None:
-        return None
-    if Path(path).suffix.lower() != ".asc":
-        raise ParameterError(
-            f"elevation = {path!r}: give an ESRI ASCII grid (.asc with its .prj); convert other "
-            "rasters first (e.g. gdal_translate -of AAIGrid)"
-        )
-    from thrustmap.io.grid import read_ascii_grid
-
-    return read_ascii_grid(path)
-
 
 def _pngs(folder: str | None) -> list[Path]:
     if folder is None:
@@ -69,7 +58,7 @@ def _web_map(
 ) -> dict[str, Any]:
     page = map_html(
         attitudes=attitudes, thrusts=thrust_traces, sheets=thrust_sheets, domains=domains,
-        fold_axes=fold_axes, elevation=_grid(elevation),
+        fold_axes=fold_axes, elevation=_load_grid(elevation),
         figures=_domain_figures(figures_dir, domains), title=title, symbol_size=symbol_size,
         online_basemap=online_basemap,
     )
