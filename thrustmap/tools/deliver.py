@@ -16,8 +16,7 @@ from thrustmap.errors import ParameterError
 from thrustmap.report import report_documents
 from thrustmap.tools._sample import SAMPLE, scenario
 from thrustmap.tools.declare import Example, FileOutput, LayerInput, Param, Tool
-# the same elevation-grid parameter handling as the wedge and section tools
-from thrustmap.tools.wedge import _load_grid
+from thrustmap.tools.wedge import _load_grid  # elevation read as the wedge and section tools do
 from thrustmap.webmap import map_html
 
 __all__ = ["TOOLS", "WEB_MAP", "REVIEW_REPORT"]
