@@ -5,16 +5,21 @@ from __future__ import annotations
 import pytest
 from PIL import Image
 
-from tests.deliver_data import domains, fold_axes, thrust_traces
+from tests.deliver_data import attitudes, domains, fold_axes, thrust_traces
 from thrustmap.errors import ParameterError
 from thrustmap.tools.declare import FileOutput
 from thrustmap.tools.deliver import REVIEW_REPORT, TOOLS, WEB_MAP
 from thrustmap.tools.runner import collect_outputs, example_invocation, load_inputs, write_outputs
 
 
-@pytest.mark.parametrize("tool", TOOLS, ids=[t.name for t in TOOLS])
-def test_examples_write_every_declared_output(tool, tmp_path):
+def test_declarations():
+    assert [t.name for t in TOOLS] == ["web-map", "review-report"]
+    assert all(t.example is not None for t in TOOLS)  # tests/test_cli.py runs them all
+
+
+def test_web_map_example_writes_the_page(tmp_path):
     # the same path as the command line: read the sources, run, write the files
+    tool = WEB_MAP
     sources, params = example_invocation(tool, tmp_path / "inputs")
     inputs = load_inputs(tool, sources, to_crs="EPSG:32633")
     layers, files = collect_outputs(tool, tool.run(inputs, params))
@@ -25,9 +30,17 @@ def test_examples_write_every_declared_output(tool, tmp_path):
         if not output.is_folder:
             text = (out / output.filename).read_text(encoding="utf-8")
             assert "qualified geologist" in text  # the caution travels with every page
-    if tool is WEB_MAP:
-        page = (out / "map.html").read_text(encoding="utf-8")
-        assert '"attitudes"' in page and "Hillshade (offline)" in page
+    page = (out / "map.html").read_text(encoding="utf-8")
+    assert '"attitudes"' in page and "Hillshade (offline)" in page
+    # without figures_dir each domain's stereonet is drawn for its popup
+    assert page.count('"image":"data:image/png;base64,') == 6
+
+
+def test_drawn_stereonets_when_no_figures_are_given():
+    result = WEB_MAP.run({"domains": domains(), "attitudes": attitudes()}, {})
+    assert result["map"].count('"image":"data:image/png;base64,') == 2  # D1 and D2 hold stations
+    report = REVIEW_REPORT.run({"domains": domains(), "attitudes": attitudes()}, {})
+    assert report["report_html"].count('src="data:image/png;base64,') == 2
 
 
 def test_web_map_figures_found_by_domain_name(tmp_path):

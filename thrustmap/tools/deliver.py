@@ -12,8 +12,10 @@ from typing import Any
 
 import pandas as pd
 
+from thrustmap.domains import domains_from_polygons
 from thrustmap.errors import ParameterError
 from thrustmap.report import report_documents
+from thrustmap.stereonet import plot_stereonet, stereonet_filename
 from thrustmap.tools._sample import SAMPLE, scenario
 from thrustmap.tools.declare import Example, FileOutput, LayerInput, Param, Tool
 from thrustmap.tools.wedge import _load_grid  # elevation read as the wedge and section tools do
@@ -30,16 +32,32 @@ def _pngs(folder: str | None) -> list[Path]:
 
 
 def _domain_figures(folder: str | None, domains: pd.DataFrame | None) -> dict[str, Path]:
-    """PNG files named after a domain (``D1.png`` or ``<anything>_D1.png``)."""
-    pngs = _pngs(folder)
+    """Each domain's stereonet in ``folder``: as domain-statistics names it, or ``<domain>.png``."""
+    pngs = set(_pngs(folder))
     if not pngs or domains is None or "domain" not in domains.columns:
         return {}
     found = {}
     for name in domains["domain"].astype(str):
-        match = [p for p in pngs if p.stem == name or p.stem.endswith(f"_{name}")]
-        if match:
-            found[name] = match[0]
+        for candidate in (Path(folder) / stereonet_filename(name, "png"), Path(folder) / f"{name}.png"):
+            if candidate in pngs:
+                found[name] = candidate
+                break
     return found
+
+
+def _drawn_stereonets(attitudes: Any, domains: Any) -> dict[str, Any]:
+    """Each domain's stereonet drawn from the attitudes inside it (no fold fit).
+
+    In a pipeline run the figures of domain-statistics are written only at the
+    end, so the map and the report draw their own when no figures_dir is given.
+    """
+    if attitudes is None or domains is None or "domain" not in domains.columns:
+        return {}
+    if "kind" not in attitudes.columns:  # not an attitude table: nothing to plot
+        return {}
+    inside = domains_from_polygons(attitudes, domains)
+    return {str(name): plot_stereonet(rows, title=f"Domain {name}")
+            for name, rows in inside.groupby("domain", sort=False) if name != "unassigned"}
 
 
 def _web_map(
@@ -58,7 +76,8 @@ def _web_map(
     page = map_html(
         attitudes=attitudes, thrusts=thrust_traces, sheets=thrust_sheets, domains=domains,
         fold_axes=fold_axes, elevation=_load_grid(elevation),
-        figures=_domain_figures(figures_dir, domains), title=title, symbol_size=symbol_size,
+        figures=_domain_figures(figures_dir, domains) if figures_dir
+        else _drawn_stereonets(attitudes, domains), title=title, symbol_size=symbol_size,
         online_basemap=online_basemap,
     )
     return {"map": page}
@@ -80,27 +99,38 @@ def _review_report(
     # outputs are the two documents, whatever figures there are).
     docs = report_documents(
         attitudes=attitudes, rejected=attitudes_rejected, domain_stats=domains,
-        fold_table=fold_axes, figures={p.stem: p for p in _pngs(figures_dir)}, spacing=spacing,
+        fold_table=fold_axes, spacing=spacing,
+        figures={p.stem: p for p in _pngs(figures_dir)} if figures_dir
+        else _drawn_stereonets(attitudes, domains),
         formation_order=thrust_traces, relations=thrust_relations, title=title,
         figures_folder=None,
     )
     return {"report_html": docs.html, "report_md": docs.markdown}
 
 
-def _web_map_example(folder: Path) -> dict[str, str]:
-    return {"attitudes": scenario("stations"), "thrust_traces": scenario("thrust_traces"),
+def _example_attitudes() -> pd.DataFrame:
+    """The scenario's stations as the attitude table ingest makes of them."""
+    from thrustmap.io.attitudes import read_attitudes
+
+    source, layer = scenario("stations").rsplit(":", 1)
+    return read_attitudes(source, layer=layer).accepted
+
+
+def _web_map_example(folder: Path) -> dict[str, Any]:
+    return {"attitudes": _example_attitudes(), "thrust_traces": scenario("thrust_traces"),
             "domains": scenario("domains")}
 
 
-def _report_example(folder: Path) -> dict[str, str]:
-    return {"attitudes": scenario("stations"), "domains": scenario("domains"),
+def _report_example(folder: Path) -> dict[str, Any]:
+    return {"attitudes": _example_attitudes(), "domains": scenario("domains"),
             "thrust_traces": scenario("thrust_traces")}
 
 
 _TITLE_HELP = "Title shown on the page."
 _FIGURES = Param("figures_dir", "str", None,
-                 "Folder of stereonet PNGs; in the map, a file named after a domain "
-                 "(D1.png or stereonet_D1.png) goes in that domain's popup.")
+                 "Folder of stereonet PNGs (domain-statistics writes figures/stereonets/); in the "
+                 "map, stereonet_D1.png (or D1.png) goes in domain D1's popup. Default: each "
+                 "domain's stereonet drawn from the attitudes inside it.")
 
 WEB_MAP = Tool(
     name="web-map",

@@ -324,32 +324,36 @@ def attitude_payload(attitudes: gpd.GeoDataFrame) -> dict[str, Any]:
 def fold_axis_payload(fold_axes: gpd.GeoDataFrame) -> dict[str, Any]:
     """Plunge arrows from a fold-axis layer with ``trend`` and ``plunge`` (true north).
 
-    Points are used as they are; lines at their midpoint, polygons at a point
-    inside them. Every other column goes to the popup.
+    ``axis_trend``/``axis_plunge`` (as the domain statistics write them) are
+    read when ``trend``/``plunge`` are absent. Points are used as they are;
+    lines at their midpoint, polygons at a point inside them. Every other
+    column goes to the popup.
 
     Examples
     --------
     >>> import shapely
-    >>> f = gpd.GeoDataFrame({"domain": ["D1"], "trend": [175.0], "plunge": [12.0]},
+    >>> f = gpd.GeoDataFrame({"domain": ["D1"], "axis_trend": [175.0], "axis_plunge": [12.0]},
     ...                      geometry=[shapely.Point(18.5, 46.0)], crs=4326)
     >>> fold_axis_payload(f)["code"]
     [4]
     """
     frame = _to_lonlat(fold_axes, "fold_axes")
-    _require(frame, ("trend", "plunge"), "fold_axes")
+    trend, plunge = ("trend", "plunge") if "trend" in frame.columns else ("axis_trend", "axis_plunge")
+    _require(frame, (trend, plunge), "fold_axes")
     _check_north(frame, "fold_axes")
     _check_points(frame, "fold_axes")
-    az = frame["trend"].to_numpy(dtype=float)
-    val = frame["plunge"].to_numpy(dtype=float)
+    az = frame[trend].to_numpy(dtype=float)
+    val = frame[plunge].to_numpy(dtype=float)
     bad = ~(np.isfinite(az) & np.isfinite(val))
     if bad.any():
         i = int(np.flatnonzero(bad)[0])
-        raise InputError("no trend/plunge to draw", layer="fold_axes", row=i + 1, field="trend/plunge")
+        raise InputError("no trend/plunge to draw", layer="fold_axes", row=i + 1,
+                         field=f"{trend}/{plunge}")
     n = len(frame)
     code = symbol_codes(np.full(n, "line"), val, np.zeros(n, bool))
     name, color, tick = FOLD_AXIS_STYLE
     geom = frame._geometry_column_name
-    popup = [c for c in frame.columns if c not in (geom, "trend", "plunge")]
+    popup = [c for c in frame.columns if c not in (geom, trend, plunge)]
     return _orientation_payload(frame, az, val, code, np.zeros(n, np.uint8),
                                 [{"name": name, "color": color, "tick": tick}], popup)
 
