@@ -398,13 +398,13 @@
   function popupFor(title, rows, image) {
     var box = el("div", "tm-pop");
     box.appendChild(el("div", "tm-pop-title", title));
-    box.appendChild(table(rows));
     if (image) {
       var img = el("img", "tm-thumb");
       img.alt = "stereonet of " + title;
       img.src = image;
       box.appendChild(img);
     }
+    box.appendChild(table(rows));
     return box;
   }
 
@@ -433,7 +433,8 @@
         color: f.color, side: f.side, label: f.label, oos: f.oos,
         dashArray: f.oos ? "9 5" : null, weight: 2.2
       });
-      line.bindPopup(function () { return popupFor(f.title, f.rows); }, { maxWidth: 320 });
+      line.bindPopup(function () { return popupFor(f.title, f.rows); },
+                     { maxWidth: 320, maxHeight: 420 });
       return line;
     });
   };
@@ -444,7 +445,8 @@
         color: f.color, weight: data.weight, dashArray: data.dash, fillColor: f.fill,
         fillOpacity: data.fillOpacity, label: f.label, labelAt: [f.at[1], f.at[0]]
       });
-      area.bindPopup(function () { return popupFor(f.title, f.rows, f.image); }, { maxWidth: 360 });
+      area.bindPopup(function () { return popupFor(f.title, f.rows, f.image); },
+                     { maxWidth: 360, maxHeight: 420 });
       return area;
     });
   };
