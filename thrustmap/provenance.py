@@ -3,9 +3,8 @@
 A :class:`Provenance` record holds the thrustmap version, every tool that ran
 with its parameters, the input files with their SHA-256 digests, and the UTC
 time. :func:`write_run` stores a whole run's layers and that record in one
-GeoPackage (an attribute table ``provenance`` plus the record as JSON in the
-GeoPackage metadata) and beside it as a sidecar JSON file, all written
-atomically.
+GeoPackage (an attribute table ``provenance``) and beside it as a sidecar JSON
+file, all written atomically.
 """
 
 from __future__ import annotations
@@ -28,7 +27,6 @@ from thrustmap.errors import InputError
 
 __all__ = [
     "PROVENANCE_LAYER",
-    "METADATA_KEY",
     "ToolRecord",
     "InputRecord",
     "Provenance",
@@ -42,7 +40,6 @@ __all__ = [
 logger = logging.getLogger(__name__)
 
 PROVENANCE_LAYER = "provenance"
-METADATA_KEY = "THRUSTMAP_PROVENANCE"
 _TABLE_COLUMNS = ["section", "name", "key", "value"]
 
 
@@ -312,8 +309,7 @@ def write_run(
     """Write a run's layers and its provenance into one GeoPackage, atomically.
 
     The GeoPackage receives every layer given (``None`` values are layers the
-    run did not produce and are skipped), a ``provenance`` attribute table and
-    the record as JSON in the GeoPackage metadata (key ``THRUSTMAP_PROVENANCE``).
+    run did not produce and are skipped) and a ``provenance`` attribute table.
     A sidecar ``<name>.provenance.json`` repeats the record with a summary of
     each layer and the GeoPackage's SHA-256. The GeoPackage is built in a
     temporary file in the same folder and renamed over the target, so an
@@ -356,13 +352,14 @@ def write_run(
     >>> read_provenance(out["geopackage"]).thrustmap_version == make_provenance().thrustmap_version
     True
     """
-    from thrustmap.io.atomic import write_file, write_geopackage
+    from thrustmap.io.atomic import write_file
     from thrustmap.io.exports import (
         check_layers,
         describe_layers,
         write_geojson_layers,
         write_shapefile_layers,
     )
+    from thrustmap.io.write import write_layers
 
     if PROVENANCE_LAYER in layers:
         raise InputError(
@@ -377,11 +374,9 @@ def write_run(
     if skipped:
         logger.info("layers not produced by this run, not written: %s", ", ".join(skipped))
     check_layers(present, source=os.fspath(target))
-    write_geopackage(
-        target,
-        {**present, PROVENANCE_LAYER: provenance.to_table()},
-        dataset_metadata={METADATA_KEY: json.dumps(record)},
-        overwrite=overwrite,
+    write_layers(
+        target, {**present, PROVENANCE_LAYER: provenance.to_table()}, overwrite=overwrite,
+        driver="GPKG", engine="pyogrio", keep_layers=False,
     )
     digest = file_sha256(target)
     summary = {

@@ -15,7 +15,7 @@ from pathlib import Path
 import geopandas as gpd
 import pandas as pd
 
-from thrustmap.errors import ParameterError
+from thrustmap.errors import InputError, ParameterError
 from thrustmap.io.atomic import atomic_paths
 from thrustmap.io.sources import ENGINES
 
@@ -142,6 +142,12 @@ def _write_one(
     path: Path, name: str, frame: pd.DataFrame, *, driver: str, engine: str, options: dict[str, str]
 ) -> None:
     """Write one layer into ``path`` (created or extended)."""
+    for column, dtype in frame.dtypes.items():
+        if getattr(dtype, "kind", "O") in ("m", "c"):  # durations, complex numbers
+            raise InputError(
+                f"a {driver} file cannot store a {dtype} column; convert it to numbers or text first",
+                source=str(path.name), layer=name, field=str(column),
+            )
     layer = {"layer": name} if driver == "GPKG" else {}
     if not _is_table(frame):
         frame.to_file(path, driver=driver, engine=engine, **layer, **options)
