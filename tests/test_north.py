@@ -158,6 +158,23 @@ def test_declination_dates_per_point_match_single_dates():
     assert per_point[1] - per_point[0] > 1.0
 
 
+@pytest.mark.parametrize("budget", [1, 7, 10_000])
+def test_declination_groups_of_dates_match_single_dates(monkeypatch, budget):
+    # Dates are evaluated in groups (one model call each); whatever the grouping,
+    # every point gets its own date's field.
+    from thrustmap import north
+
+    monkeypatch.setattr(north, "_EVALUATIONS", budget)
+    lon = np.array([15.0, 16.0, -70.0, 15.5, 120.0, 15.0])
+    lat = np.array([45.0, 44.0, -30.0, 46.0, 0.0, 45.0])
+    dates = ["2024-06-03", "1990-01-01", "2024-06-03", "2010-07-01", "1990-01-01", "2024-06-04"]
+    per_point = declination(lon, lat, dates, hour=12.0)
+    singles = [
+        float(declination(o, a, d, hour=12.0)) for o, a, d in zip(lon, lat, dates, strict=True)
+    ]
+    assert per_point.tolist() == pytest.approx(singles, abs=1e-12)
+
+
 def test_declination_shapes_missing_and_heights():
     out = declination(np.array([[15.0, np.nan]]), 45.0, "2024-01-01")
     assert out.shape == (1, 2)

@@ -44,6 +44,8 @@ Float = NDArray[np.float64]
 
 # ppigrf builds dense (points x coefficients) matrices; chunks bound the memory.
 _CHUNK = 50_000
+# Point-date evaluations one ppigrf call may spend on a group of survey dates.
+_EVALUATIONS = 200_000
 
 
 @functools.cache
@@ -178,12 +180,29 @@ def declination(
         )
     import ppigrf
 
-    for day in np.unique(days[ok]):
-        idx = np.flatnonzero(ok & (days == day))
-        when = (pd.Timestamp(day) + pd.Timedelta(hours=hour)).to_pydatetime()
-        for part in np.array_split(idx, -(-idx.size // _CHUNK)):
-            be, bn, _ = ppigrf.igrf(lon_f[part], lat_f[part], h_f[part], when)
-            out[part] = np.degrees(np.arctan2(be[0], bn[0]))
+    idx = np.flatnonzero(ok)
+    idx = idx[np.argsort(days[idx], kind="stable")]
+    unique, first, count = np.unique(days[idx], return_index=True, return_counts=True)
+    whens = [(pd.Timestamp(d) + pd.Timedelta(hours=hour)).to_pydatetime() for d in unique]
+    # One ppigrf call per group of dates: each call reads and interpolates the
+    # coefficients once (tens of milliseconds) and evaluates every point of the
+    # group at every date of it, so groups stop at _EVALUATIONS of those.
+    start = 0
+    while start < unique.size:
+        stop = start + 1
+        while (
+            stop < unique.size
+            and (stop + 1 - start) * (first[stop] + count[stop] - first[start]) <= _EVALUATIONS
+        ):
+            stop += 1
+        points = idx[first[start] : first[stop - 1] + count[stop - 1]]
+        date_of = np.repeat(np.arange(stop - start), count[start:stop])
+        for part in np.array_split(np.arange(points.size), -(-points.size // _CHUNK)):
+            p = points[part]
+            be, bn, _ = ppigrf.igrf(lon_f[p], lat_f[p], h_f[p], whens[start:stop])
+            row = date_of[part]
+            out[p] = np.degrees(np.arctan2(be[row, np.arange(p.size)], bn[row, np.arange(p.size)]))
+        start = stop
     return out.reshape(shape)
 
 
