@@ -54,27 +54,46 @@ def _savefig(fig: Any, path: Path, dpi: int) -> None:
     fig.savefig(path, format=fmt, dpi=dpi, metadata=_METADATA.get(fmt))
 
 
-def figure_writer(make_figure: Callable[[], Any], *, dpi: int = 200) -> Callable[[Path], None]:
+def figure_writer(
+    make_figure: Callable[[], Any], *, dpi: int = 200, uses: int = 1
+) -> Callable[[Path], None]:
     """A ``writer(path)`` for a tool's file output: draws the figure, saves it, closes it.
 
-    The format follows the suffix of the path (png, svg or pdf).
+    The format follows the suffix of the path (png, svg or pdf). A tool that
+    offers one figure in several formats passes the same writer to each output
+    with ``uses`` set to their number: the figure is drawn at the first call,
+    kept for the next ones and closed after the last.
 
     Examples
     --------
     >>> import matplotlib.pyplot as plt, tempfile, pathlib
-    >>> path = pathlib.Path(tempfile.mkdtemp()) / "blank.svg"
-    >>> figure_writer(lambda: plt.subplots()[0])(path)
-    >>> path.read_text().count("<svg")
-    1
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> drawn = []
+    >>> write = figure_writer(lambda: drawn.append(1) or plt.subplots()[0], uses=2)
+    >>> write(folder / "blank.svg"); write(folder / "blank.png")
+    >>> (folder / "blank.svg").read_text().count("<svg"), len(drawn)
+    (1, 1)
     """
+    if int(uses) != uses or uses < 1:
+        raise ParameterError(f"figure_writer: uses = {uses!r} must be a whole number >= 1")
+    held: list[Any] = []
+    calls = [0]
 
     def write(path: Path) -> None:
         import matplotlib.pyplot as plt
 
-        fig = make_figure()
+        if not held:
+            held.append(make_figure())
+        calls[0] += 1
+        fig = held[0]
         try:
             _savefig(fig, Path(path), dpi)
-        finally:
+        except BaseException:
+            held.clear()
+            plt.close(fig)
+            raise
+        if calls[0] % uses == 0:
+            held.clear()
             plt.close(fig)
 
     return write

@@ -61,8 +61,9 @@ def _statistics(
     for name in result.domains[DOMAIN_COLUMN]:
         rows = by_domain.get(name, result.attitudes.iloc[0:0])
         draw = partial(plot_stereonet, rows, fit=result.fits.get(name), title=f"Domain {name}")
+        write = figure_writer(draw, uses=2)
         for suffix in ("png", "svg"):
-            figures[stereonet_filename(name, suffix)] = figure_writer(draw)
+            figures[stereonet_filename(name, suffix)] = write
     return {"domains": result.domains, "fold_axes": result.fold_axes, "stereonets": figures}
 
 

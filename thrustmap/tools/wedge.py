@@ -88,7 +88,7 @@ def _surface_profiles(
         break_thrust=break_thrust, toe_thrust=toe_thrust, min_samples=min_samples,
     )
     samples = sample_profiles(profiles, grid, step=step)
-    draw = figure_writer(lambda: plot_profiles(samples, profiles, title="Transport-parallel surface profiles"))
+    draw = figure_writer(lambda: plot_profiles(samples, profiles, title="Transport-parallel surface profiles"), uses=2)
     return {"profiles": profiles, "profiles_png": draw, "profiles_svg": draw}
 
 
@@ -148,7 +148,7 @@ def _wedge_taper(
                                samples=samples, seed=seed, **kw)
     draw = figure_writer(lambda: plot_envelope(
         env, alpha=alpha, beta=beta, alpha_sd=sd, beta_sd=beta_sd, uncertainty=odds,
-        title=f"Critical taper ({method}, {setting}): {taper['state'].iloc[0]}"))
+        title=f"Critical taper ({method}, {setting}): {taper['state'].iloc[0]}"), uses=2)
     return {"taper": taper, "taper_envelope": env, "taper_png": draw, "taper_svg": draw}
 
 
@@ -199,7 +199,7 @@ def _section(
         )
     decollement = None if base[0] is None else base
     draw = figure_writer(lambda: plot_section(layers, vertical_exaggeration=vertical_exaggeration,
-                                              decollement=decollement))
+                                              decollement=decollement), uses=2)
     return {**layers, "section_png": draw, "section_svg": draw}
 
 
@@ -253,7 +253,7 @@ def _down_plunge(
         view.insert(0, "domain", "" if domain is None else str(domain))
     draw = figure_writer(lambda: plot_down_plunge(
         view, title=f"Down-plunge view, {'domain ' + str(domain) if domain else 'all stations'}: "
-                    f"{float(axis_plunge):.0f} -> {float(axis_trend):03.0f} (true)"))
+                    f"{float(axis_plunge):.0f} -> {float(axis_trend):03.0f} (true)"), uses=2)
     return {"section_down_plunge": view, "down_plunge_png": draw, "down_plunge_svg": draw}
 
 
