@@ -94,7 +94,8 @@ def test_first_cut_finds_a_thin_limb():
     # here halves the big limb and reads an interlimb angle ~29 degrees too tight.
     # A gentle fold (limbs 40 degrees apart) with 8 of 400 attitudes on one limb:
     # that limb is found; 4 degrees is ~2.4 standard errors of a mean of 8 attitudes
-    # at kappa 150 (common practice: angular sd ~ 81/sqrt(kappa), Fisher 1953).
+    # at kappa 150 (in-plane sd 1/sqrt(kappa) rad = 4.7 degrees; Fisher 1953 statistics
+    # as given in Tauxe, Essentials of Paleomagnetism).
     dd, dip, over, (_, _, truth) = synthetic_fold(1, n=400, interlimb=140.0, limb_share=0.98)
     fit = folds.fit_fold(dd, dip, overturned=over, n_boot=0)
     assert fit.limb_n == (8, 392)
