@@ -442,7 +442,7 @@ def analyze_thrusts(
     out_traces = _trace_frame(
         accepted, snapped, side, basis, hw_true, hw_grid, order, position, crs
     )
-    result = ThrustAnalysis(
+    return ThrustAnalysis(
         traces=out_traces,
         sheets=_sheet_frame(sheets, ids, crs),
         nodes=_node_frame(topo.nodes, node_younger, ids, crs),
@@ -454,9 +454,6 @@ def analyze_thrusts(
         transport=transport,
         crs=crs,
     )
-    for line in result.summary().splitlines()[1:]:
-        log.info("%s", line)
-    return result
 
 
 def _assemble(pieces: np.ndarray, piece_trace: np.ndarray) -> np.ndarray:

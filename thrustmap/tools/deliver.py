@@ -148,7 +148,7 @@ WEB_MAP = Tool(
     ),
     params=(
         Param("title", "str", "thrustmap structural map", _TITLE_HELP),
-        Param("elevation", "str", None, "Elevation grid for the offline hillshade: path of an "
+        Param("elevation", "file", None, "Elevation grid for the offline hillshade: path of an "
               "ESRI ASCII grid (.asc, with its .prj)."),
         _FIGURES,
         Param("symbol_size", "float", 9.0, "Half-length of a strike line.", unit="pixels",
