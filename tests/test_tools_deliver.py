@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import pytest
 from PIL import Image
 
@@ -10,6 +12,8 @@ from thrustmap.errors import ParameterError
 from thrustmap.tools.declare import FileOutput
 from thrustmap.tools.deliver import REVIEW_REPORT, TOOLS, WEB_MAP
 from thrustmap.tools.runner import collect_outputs, example_invocation, load_inputs, write_outputs
+
+SAMPLE = Path(__file__).resolve().parents[1] / "sample_gis"
 
 
 def test_declarations():
@@ -56,7 +60,8 @@ def test_web_map_figures_found_by_domain_name(tmp_path):
 @pytest.mark.parametrize("params, match", [
     ({"symbol_size": 0.5}, "symbol_size.*below the minimum 2.0 pixels"),
     ({"colour": "red"}, "unknown parameter 'colour'"),
-    ({"elevation": "dem.tif"}, "ESRI ASCII grid"),
+    ({"elevation": str(SAMPLE / "elevation.prj")}, "ESRI ASCII grid"),
+    ({"elevation": "no-such-dem.asc"}, "'elevation' = 'no-such-dem.asc': no such file"),
     ({"figures_dir": "no/such/folder"}, "not a folder"),
 ])
 def test_web_map_parameter_errors(params, match):
