@@ -238,6 +238,8 @@ def frame_to_features(frame, *, geometry):
     fields : QgsFields
     features : list of QgsFeature
     wkb_type : QgsWkbTypes.Type
+        The one type fitting every geometry: multi when any part is multi
+        (single parts are then written as one-part multis), Z when any has Z.
     crs : QgsCoordinateReferenceSystem
         Invalid when the frame has no CRS.
     """
@@ -259,6 +261,7 @@ def frame_to_features(frame, *, geometry):
         fields.append(QgsField(str(name), qtype))
         columns.append(values)
     rows = list(zip(*columns, strict=True)) if columns else [() for _ in range(len(frame))]
+    multi = QgsWkbTypes.isMultiType(wkb_type)
     features = []
     for row, wkb in zip(rows, wkbs, strict=True):
         feature = QgsFeature(fields)
@@ -266,6 +269,9 @@ def frame_to_features(frame, *, geometry):
         if wkb is not None:
             geometry_out = QgsGeometry()
             geometry_out.fromWkb(wkb)
+            if multi:
+                # Every destination (memory, GeoPackage, Shapefile) gets the layer's own type.
+                geometry_out.convertToMultiType()
             feature.setGeometry(geometry_out)
         features.append(feature)
     return fields, features, wkb_type, crs
