@@ -28,3 +28,18 @@ lint: $(STAMP)
 
 clean:
 	rm -rf out build dist *.egg-info .pytest_cache
+
+# Desktop GIS (QGIS from the Debian archive): the plugin zip, its tests, and the main
+# suite again on the GIS's Debian-pinned Python stack (.venv-gis, made by the setup script).
+GIS_ENV := QT_QPA_PLATFORM=offscreen PROJ_DATA=/usr/share/proj
+.PHONY: gis-plugin test-gis test-gis-stack
+gis-plugin:
+	$(PYTHON) scripts/build_gis_plugin.py
+
+test-gis: gis-plugin
+	bash scripts/setup_gis_env.sh
+	$(GIS_ENV) .venv-gis/bin/python -m pytest -q tests_gis
+
+test-gis-stack:
+	bash scripts/setup_gis_env.sh
+	$(GIS_ENV) .venv-gis/bin/python -m pytest -q

@@ -9,15 +9,13 @@ set -euo pipefail
 cd "$(dirname "$0")/.."
 
 VENV=${VENV_GIS:-.venv-gis}
+# Debian's pyproj run from a venv does not find the PROJ database by itself.
+export PROJ_DATA=${PROJ_DATA:-/usr/share/proj}
 SYSTEM_PYTHON=/usr/bin/python3
 SYSTEM_SITE=/usr/lib/python3/dist-packages
 APT_PACKAGES=(qgis python3-qgis qgis-providers python3-fiona python3-venv python3-dev libgeos-dev libgdal-dev)
 # Built from source against the system GEOS/GDAL instead of wheels bundling their own copies.
 NO_BINARY=shapely,pyogrio
-# Test extras left out of the GIS venv: browser/notebook drivers whose dependencies conflict
-# with the Debian-pinned Jupyter stack, and the linter (not run here).
-SKIP_EXTRAS="playwright nbclient nbformat ipykernel ruff"
-
 log() { printf 'setup_gis_env: %s\n' "$*" >&2; }
 
 missing=()
@@ -31,32 +29,25 @@ if [ ${#missing[@]} -gt 0 ]; then
     log "installing ${missing[*]} from the Debian archive"
     export DEBIAN_FRONTEND=noninteractive
     $SUDO apt-get update -qq
-    $SUDO apt-get install -y -qq --no-install-recommends "${APT_PACKAGES[@]}" >/dev/null
+    $SUDO apt-get -o DPkg::Lock::Timeout=900 install -y -qq --no-install-recommends \
+        "${APT_PACKAGES[@]}" >/dev/null
 fi
 
-stamp_value=$(cat pyproject.toml "$0" | sha256sum | cut -d' ' -f1)
+stamp_value=$(cat pyproject.toml scripts/setup_gis_env.sh | sha256sum | cut -d' ' -f1)
 if [ -x "$VENV/bin/python" ] && [ "$(cat "$VENV/.installed" 2>/dev/null)" = "$stamp_value" ]; then
     log "$VENV is up to date"
     exit 0
 fi
 
-test -x "$VENV/bin/python" || "$SYSTEM_PYTHON" -m venv --system-site-packages "$VENV"
+# A fresh venv each time the inputs change: stale packages there would shadow Debian's.
+rm -rf "$VENV"
+"$SYSTEM_PYTHON" -m venv --system-site-packages "$VENV"
 "$VENV/bin/python" -m pip list --disable-pip-version-check --path "$SYSTEM_SITE" --format=freeze \
     > "$VENV/debian-constraints.txt"
-"$VENV/bin/python" - "$SKIP_EXTRAS" > "$VENV/test-requirements.txt" <<'PY'
-import re
-import sys
-import tomllib
-
-skip = set(sys.argv[1].split())
-with open("pyproject.toml", "rb") as f:
-    test = tomllib.load(f)["project"]["optional-dependencies"]["test"]
-print("\n".join(r for r in test if re.split(r"[\s<>=!~;\[]", r, maxsplit=1)[0] not in skip))
-PY
 log "installing thrustmap and its test extras into $VENV"
 "$VENV/bin/python" -m pip install -q --disable-pip-version-check \
     -c "$VENV/debian-constraints.txt" --no-binary "$NO_BINARY" \
     --use-feature=no-binary-enable-wheel-cache \
-    -e . -r "$VENV/test-requirements.txt"
+    -e '.[test]'
 echo "$stamp_value" > "$VENV/.installed"
 log "$VENV ready"
