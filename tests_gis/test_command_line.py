@@ -48,19 +48,21 @@ def runner(tmp_path_factory, extra_path):
         PYTHONPATH=os.pathsep.join([*extra_path, str(ROOT), sysconfig.get_path("purelib")]),
     )
 
-    def run(*args):
+    def run(*args, without_thrustmap=False):
+        run_env = dict(env, PYTHONPATH="") if without_thrustmap else env
         done = subprocess.run(
-            [RUNNER, *args], env=env, capture_output=True, text=True, timeout=300, cwd=folder
+            [RUNNER, *args], env=run_env, capture_output=True, text=True, timeout=300, cwd=folder
         )
         assert done.returncode == 0, f"{args}: exit {done.returncode}\n{done.stdout}\n{done.stderr}"
-        return done.stdout
+        return done.stdout + done.stderr
 
     run("plugins", "enable", "thrustmap_provider")
     return run
 
 
-def _json(stdout):
-    return json.loads(stdout[stdout.index("{") :])
+def _json(output):
+    """The runner's JSON document (stdout), ignoring the log lines after it."""
+    return json.JSONDecoder().raw_decode(output[output.index("{") :])[0]
 
 
 @pytest.fixture(scope="module")
@@ -72,6 +74,12 @@ def test_runner_lists_every_tool(runner):
     listed = _json(runner("--json", "list"))["providers"]["thrustmap"]
     assert listed["name"] == "thrustmap"
     assert sorted(listed["algorithms"]) == sorted(f"thrustmap:{t.name}" for t in list_tools())
+
+
+def test_missing_thrustmap_is_reported_not_fatal(runner):
+    out = runner("--verbose", "list", without_thrustmap=True)
+    assert "the thrustmap package cannot be imported in the GIS's Python" in out
+    assert "thrustmap:" not in out
 
 
 def test_runner_runs_a_tool(runner, gpkg, tmp_path):
