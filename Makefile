@@ -29,6 +29,11 @@ lint: $(STAMP)
 clean:
 	rm -rf out build dist *.egg-info .pytest_cache
 
+.PHONY: sample
+# Regenerate the synthetic demo data in sample_gis/ (see sample_gis/README.md).
+sample: $(STAMP)
+	$(BIN)/python -m thrustmap.synth sample_gis --overwrite
+
 # Desktop GIS (QGIS from the Debian archive): the plugin zip, its tests, and the main
 # suite again on the GIS's Debian-pinned Python stack (.venv-gis, made by the setup script).
 GIS_ENV := QT_QPA_PLATFORM=offscreen PROJ_DATA=/usr/share/proj

@@ -6,11 +6,11 @@ from shared REFERENCES.md where they carry a source.
 """
 
 import mplstereonet
-from mplstereonet.stereonet_math import sph2cart
 import numpy as np
 import pytest
 from hypothesis import given
 from hypothesis import strategies as st
+from mplstereonet.stereonet_math import sph2cart
 
 from tests.common import ANTIPODAL, LINES, PLANES
 from thrustmap import orientation as o

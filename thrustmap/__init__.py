@@ -2,6 +2,19 @@
 
 from thrustmap._version import __version__
 from thrustmap.errors import ThrustmapError
+from thrustmap.folds import fit_fold
+from thrustmap.io.attitudes import read_attitudes
 from thrustmap.orientation import parse_plane, parse_planes
+from thrustmap.thrusts import analyze_thrusts
+from thrustmap.wedge import critical_taper
 
-__all__ = ["__version__", "ThrustmapError", "parse_plane", "parse_planes"]
+__all__ = [
+    "__version__",
+    "ThrustmapError",
+    "read_attitudes",
+    "parse_plane",
+    "parse_planes",
+    "fit_fold",
+    "analyze_thrusts",
+    "critical_taper",
+]

@@ -11,6 +11,8 @@ __all__ = [
     "DegenerateDataError",
     "OutputExistsError",
     "ThrustmapWarning",
+    "SourceNotFoundError",
+    "ToolLoadError",
 ]
 
 
@@ -67,3 +69,11 @@ class OutputExistsError(ThrustmapError, FileExistsError):
 
 class ThrustmapWarning(UserWarning):
     """Warnings thrustmap raises about data quality or questionable results."""
+
+
+class SourceNotFoundError(ThrustmapError, FileNotFoundError):
+    """An input file that does not exist; the message names the path."""
+
+
+class ToolLoadError(ThrustmapError, ImportError):
+    """A tool plugin that failed to load; the message names the entry point and the cause."""

@@ -1,5 +1,17 @@
-"""Declared tools: the declaration mechanism and the tool registry."""
+"""Declared tools: the declaration mechanism, the shared options and the tool registry."""
 
-from thrustmap.tools.declare import LayerInput, LayerOutput, Param, Tool
+from thrustmap.tools.declare import Example, FileOutput, LayerInput, LayerOutput, Param, Tool
+from thrustmap.tools.registry import get_tool, list_broken, list_tools, refresh
 
-__all__ = ["LayerInput", "LayerOutput", "Param", "Tool"]
+__all__ = [
+    "Example",
+    "FileOutput",
+    "LayerInput",
+    "LayerOutput",
+    "Param",
+    "Tool",
+    "get_tool",
+    "list_broken",
+    "list_tools",
+    "refresh",
+]

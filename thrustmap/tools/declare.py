@@ -10,11 +10,21 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
-from thrustmap.errors import ParameterError
+from thrustmap.errors import InputError, ParameterError
 
-__all__ = ["Param", "LayerInput", "LayerOutput", "Tool", "GEOMETRIES", "PARAM_TYPES"]
+__all__ = [
+    "Param",
+    "LayerInput",
+    "LayerOutput",
+    "FileOutput",
+    "Example",
+    "Tool",
+    "GEOMETRIES",
+    "PARAM_TYPES",
+]
 
 GEOMETRIES = ("point", "line", "polygon", "table", "any")
 PARAM_TYPES = ("float", "int", "bool", "str", "choice")
@@ -146,6 +156,55 @@ class LayerInput:
         """JSON-ready description of the input."""
         return {"name": self.name, "geometry": self.geometry, "help": self.help, "optional": self.optional}
 
+    def check(self, frame: Any, *, source: str | None = None, layer: str | None = None) -> None:
+        """Check that ``frame`` has the declared geometry type.
+
+        A ``table`` or ``any`` input accepts every frame; ``point``, ``line`` and
+        ``polygon`` inputs need a GeoDataFrame whose non-empty geometries are all
+        of that family (multi-part geometries included).
+
+        Raises
+        ------
+        InputError
+            Naming the file, layer and first row with the wrong geometry.
+
+        Examples
+        --------
+        >>> import geopandas as gpd, shapely
+        >>> pts = gpd.GeoDataFrame(geometry=[shapely.Point(0, 0)])
+        >>> LayerInput("stations", "point").check(pts)
+        >>> LayerInput("traces", "line").check(pts, source="a.gpkg", layer="s")
+        Traceback (most recent call last):
+        ...
+        thrustmap.errors.InputError: file a.gpkg, layer s, row 1: input 'traces' expects line geometries; found Point
+        """
+        allowed = _GEOMETRY_FAMILIES.get(self.geometry)
+        if allowed is None:
+            return
+        if getattr(frame, "active_geometry_name", None) is None:
+            raise InputError(
+                f"input {self.name!r} expects a {self.geometry} layer; found a table without geometry",
+                source=source,
+                layer=layer,
+            )
+        types = frame.geometry.geom_type
+        bad = types.notna() & ~types.isin(allowed)
+        if bad.any():
+            position = int(bad.to_numpy().argmax())
+            raise InputError(
+                f"input {self.name!r} expects {self.geometry} geometries; found {types.iloc[position]}",
+                source=source,
+                layer=layer,
+                row=position + 1,
+            )
+
+
+_GEOMETRY_FAMILIES = {
+    "point": ("Point", "MultiPoint"),
+    "line": ("LineString", "MultiLineString", "LinearRing"),
+    "polygon": ("Polygon", "MultiPolygon"),
+}
+
 
 @dataclass(frozen=True)
 class LayerOutput:
@@ -161,7 +220,63 @@ class LayerOutput:
 
     def describe(self) -> dict[str, Any]:
         """JSON-ready description of the output."""
-        return {"name": self.name, "geometry": self.geometry, "help": self.help}
+        return {"name": self.name, "kind": "layer", "geometry": self.geometry, "help": self.help}
+
+
+@dataclass(frozen=True)
+class FileOutput:
+    """A file the tool writes besides its layers (figure, web page, report).
+
+    The tool returns, under ``name``, the content: ``str`` (written as UTF-8),
+    ``bytes``, or a callable that writes the file at the path it is given.
+    ``filename`` is relative to the output folder of the run; one ending in
+    ``/`` names a folder, and the tool then returns a mapping of file names
+    (relative to that folder) to contents, for outputs whose number of files
+    depends on the data (one figure per domain).
+    """
+
+    name: str
+    filename: str
+    help: str = ""
+
+    def __post_init__(self) -> None:
+        if Path(self.filename).is_absolute() or ".." in Path(self.filename).parts:
+            raise ValueError(f"output {self.name}: filename {self.filename!r} must stay inside the output folder")
+
+    @property
+    def is_folder(self) -> bool:
+        """Whether the output is a folder of files (``filename`` ends with ``/``)."""
+        return self.filename.endswith("/")
+
+    def describe(self) -> dict[str, Any]:
+        """JSON-ready description of the output."""
+        return {
+            "name": self.name,
+            "kind": "folder" if self.is_folder else "file",
+            "filename": self.filename,
+            "help": self.help,
+        }
+
+
+@dataclass(frozen=True)
+class Example:
+    """A worked invocation of a tool: runnable in the tests, shown in ``--help``.
+
+    Parameters
+    ----------
+    build : callable
+        ``build(folder)`` writes or makes the example inputs and returns a mapping
+        from input name to either a source (``"path"`` or ``"path:layer"``) or a
+        (Geo)DataFrame (written to a GeoPackage in ``folder`` before use).
+    params : mapping
+        Parameter values of the example, by parameter name.
+    summary : str
+        One sentence saying what the example shows.
+    """
+
+    build: Callable[[Path], Mapping[str, Any]]
+    params: Mapping[str, Any] = field(default_factory=dict)
+    summary: str = ""
 
 
 @dataclass(frozen=True)
@@ -170,7 +285,9 @@ class Tool:
 
     ``func(**inputs, **params)`` receives each input as a (Geo)DataFrame (or
     ``None`` for an optional input not given) and each parameter validated, and
-    returns a mapping from every declared output name to a (Geo)DataFrame.
+    returns a mapping from every declared output name to a (Geo)DataFrame (for a
+    :class:`LayerOutput`) or to file content (for a :class:`FileOutput`).
+    ``example`` is the worked invocation every registered tool carries.
     """
 
     name: str
@@ -178,18 +295,31 @@ class Tool:
     func: Callable[..., Mapping[str, Any]]
     inputs: tuple[LayerInput, ...] = ()
     params: tuple[Param, ...] = ()
-    outputs: tuple[LayerOutput, ...] = ()
+    outputs: tuple[LayerOutput | FileOutput, ...] = ()
     group: str = "analysis"
     origin: str = field(default="thrustmap", compare=False)
+    example: Example | None = field(default=None, compare=False)
+
+    def input(self, name: str) -> LayerInput:
+        """The declared input called ``name``.
+
+        Raises
+        ------
+        ParameterError
+            When the tool has no such input; the message lists the inputs.
+        """
+        return self._named(self.inputs, name, "input")
 
     def param(self, name: str) -> Param:
         """The declared parameter called ``name``."""
-        for p in self.params:
-            if p.name == name:
-                return p
+        return self._named(self.params, name, "parameter")
+
+    def _named(self, items: tuple[Any, ...], name: str, kind: str) -> Any:
+        for item in items:
+            if item.name == name:
+                return item
         raise ParameterError(
-            f"{self.name}: unknown parameter {name!r}; parameters are: "
-            + ", ".join(p.name for p in self.params)
+            f"{self.name}: unknown {kind} {name!r}; {kind}s are: " + ", ".join(i.name for i in items)
         )
 
     def validate_params(self, values: Mapping[str, Any]) -> dict[str, Any]:
@@ -235,4 +365,7 @@ class Tool:
             "inputs": [i.describe() for i in self.inputs],
             "params": [p.describe() for p in self.params],
             "outputs": [o.describe() for o in self.outputs],
+            "example": None
+            if self.example is None
+            else {"summary": self.example.summary, "params": dict(self.example.params)},
         }

@@ -1,0 +1,1 @@
+"""Reading and writing thrustmap's inputs and outputs: attitudes, layers, grids."""
