@@ -1,13 +1,16 @@
 """One processing algorithm per declared thrustmap tool, generated from its declaration.
 
 The algorithm only translates: features in -> (Geo)DataFrames -> ``tool.run`` ->
-(Geo)DataFrames -> feature sinks. Parameter types, ranges, defaults, choices and
-help all come from the declaration, so the GIS refuses bad values itself.
+(Geo)DataFrames and files -> feature sinks and files. Parameter types, ranges,
+defaults, choices and help all come from the declaration, so the GIS refuses
+bad values itself.
 """
 
+import contextlib
 import html
 import logging
 import warnings
+from pathlib import Path
 
 from qgis.core import (
     QgsFeatureSink,
@@ -15,22 +18,33 @@ from qgis.core import (
     QgsProcessingAlgorithm,
     QgsProcessingException,
     QgsProcessingParameterBoolean,
+    QgsProcessingParameterCrs,
     QgsProcessingParameterEnum,
     QgsProcessingParameterFeatureSink,
     QgsProcessingParameterFeatureSource,
+    QgsProcessingParameterFileDestination,
+    QgsProcessingParameterFolderDestination,
     QgsProcessingParameterNumber,
     QgsProcessingParameterString,
+    QgsProviderRegistry,
 )
 
 from thrustmap.errors import ThrustmapError
+from thrustmap.io.atomic import write_file
+from thrustmap.io.sources import working_crs
+from thrustmap.tools.declare import FileOutput
+from thrustmap.tools.options import CRS
+from thrustmap.tools.runner import collect_outputs
 
-from .convert import frame_to_features, source_to_frame
+from .convert import frame_to_features, source_to_frame, to_pyproj_crs
 
-__all__ = ["ThrustmapAlgorithm", "OUTPUT_PREFIX", "LAYER_TYPES"]
+__all__ = ["ThrustmapAlgorithm", "OUTPUT_PREFIX", "LAYER_TYPES", "WORKING_CRS"]
 
 # Output parameters are named ``out_<declared name>``: a tool may read and write
 # layers of the same name (thrust_traces in, thrust_traces out).
 OUTPUT_PREFIX = "out_"
+# The shared working-CRS option, offered by every algorithm as on the command line.
+WORKING_CRS = CRS.name
 
 LAYER_TYPES = {
     "point": QgsProcessing.TypeVectorPoint,
@@ -42,7 +56,7 @@ LAYER_TYPES = {
 
 
 def _label(name, unit=None):
-    text = name.replace("_", " ")
+    text = name.replace("_", " ").replace("-", " ")
     text = text[:1].upper() + text[1:]
     return f"{text} ({unit})" if unit else text
 
@@ -83,6 +97,11 @@ def _parameter_definition(param):
     return definition
 
 
+def _file_filter(output):
+    suffix = Path(output.filename).suffix.lstrip(".")
+    return f"{suffix.upper()} files (*.{suffix})" if suffix else ""
+
+
 class _FeedbackHandler(logging.Handler):
     """Forwards thrustmap's log records to the algorithm's feedback panel."""
 
@@ -98,15 +117,34 @@ class _FeedbackHandler(logging.Handler):
             self.feedback.pushInfo(message)
 
 
+@contextlib.contextmanager
+def _offscreen_figures():
+    """Draw figures with Agg while a tool runs, whatever plotting backend the GIS set up."""
+    import matplotlib.pyplot as plt
+
+    previous = plt.get_backend()
+    if previous.lower() == "agg":
+        yield
+        return
+    plt.switch_backend("agg")
+    try:
+        yield
+    finally:
+        plt.switch_backend(previous)
+
+
 class ThrustmapAlgorithm(QgsProcessingAlgorithm):
     """A processing algorithm wrapping one declared ``thrustmap.tools.Tool``.
 
     Parameters
     ----------
     tool : thrustmap.tools.Tool
-        The declaration; its inputs become feature sources filtered by
-        geometry, its parameters typed parameters, its outputs feature sinks
-        named ``out_<output name>``.
+        The declaration. Its inputs become feature sources filtered by
+        geometry, its parameters typed parameters, its layer outputs feature
+        sinks and its file outputs file or folder destinations, each output
+        named ``out_<output name>``. Every algorithm also offers the shared
+        working CRS (``crs``) the spatial inputs are reprojected to, as the
+        command line does.
 
     Raises
     ------
@@ -119,6 +157,8 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
         self._tool = tool
         names = [i.name for i in tool.inputs] + [p.name for p in tool.params]
         names += [OUTPUT_PREFIX + o.name for o in tool.outputs]
+        if WORKING_CRS not in names:
+            names.append(WORKING_CRS)
         clashes = sorted({n for n in names if names.count(n) > 1})
         if clashes:
             raise ValueError(f"tool {tool.name!r}: names used twice: {', '.join(clashes)}")
@@ -146,13 +186,33 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
     def shortDescription(self):  # noqa: N802
         return self._tool.summary
 
+    def flags(self):
+        flags = super().flags()
+        if self._writes_files():
+            # Figures are drawn with the plotting library's global state: keep them
+            # on the GIS's main thread.
+            flags |= QgsProcessingAlgorithm.FlagNoThreading
+        return flags
+
+    def _writes_files(self):
+        return any(isinstance(o, FileOutput) for o in self._tool.outputs)
+
     def shortHelpString(self):  # noqa: N802
         tool = self._tool
         parts = [f"<p>{html.escape(tool.summary)}</p>"]
+        outputs = [
+            (
+                o.name,
+                f"{o.filename}; {o.help}"
+                if isinstance(o, FileOutput)
+                else f"{o.geometry}; {o.help}",
+            )
+            for o in tool.outputs
+        ]
         for title, items in (
             ("Inputs", [(i.name, f"{i.geometry}; {i.help}") for i in tool.inputs]),
             ("Parameters", [(p.name, p.help) for p in tool.params]),
-            ("Outputs", [(o.name, f"{o.geometry}; {o.help}") for o in tool.outputs]),
+            ("Outputs", outputs),
         ):
             if items:
                 rows = "".join(
@@ -176,22 +236,46 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
             )
             definition.setHelp(layer.help)
             self.addParameter(definition)
+        declared_crs = None
         for param in self._tool.params:
+            if param.name == WORKING_CRS:
+                declared_crs = param
+                continue
             self.addParameter(_parameter_definition(param))
+        crs = QgsProcessingParameterCrs(
+            WORKING_CRS, "Working CRS", declared_crs.default if declared_crs else None, True
+        )
+        crs.setHelp((declared_crs or CRS).help)
+        self.addParameter(crs)
         for output in self._tool.outputs:
-            definition = QgsProcessingParameterFeatureSink(
-                OUTPUT_PREFIX + output.name, _label(output.name), LAYER_TYPES[output.geometry]
-            )
+            key = OUTPUT_PREFIX + output.name
+            if isinstance(output, FileOutput) and output.is_folder:
+                definition = QgsProcessingParameterFolderDestination(key, _label(output.name))
+            elif isinstance(output, FileOutput):
+                definition = QgsProcessingParameterFileDestination(
+                    key, _label(output.name), _file_filter(output)
+                )
+            else:
+                definition = QgsProcessingParameterFeatureSink(
+                    key, _label(output.name), LAYER_TYPES[output.geometry]
+                )
             definition.setHelp(output.help)
             self.addParameter(definition)
 
-    def _key_fields(self, parameters, name, context):
-        """Fields holding the data provider's own feature ids (a GeoPackage's ``fid``)."""
+    def _layer_origin(self, parameters, name, context):
+        """(file, layer name, key fields) of an input layer, as thrustmap's readers name them.
+
+        The file is None for a layer held in memory; the key fields hold the data
+        provider's own feature ids (a GeoPackage's ``fid``), left out of the table.
+        """
         layer = self.parameterAsVectorLayer(parameters, name, context)
         if layer is None:
-            return []
-        keys = layer.dataProvider().pkAttributeIndexes()
-        return [layer.fields().at(i).name() for i in keys]
+            return None, None, []
+        keys = [layer.fields().at(i).name() for i in layer.dataProvider().pkAttributeIndexes()]
+        parts = QgsProviderRegistry.instance().decodeUri(layer.providerType(), layer.source())
+        if parts.get("path"):
+            return parts["path"], parts.get("layerName") or None, keys
+        return None, layer.name(), keys
 
     def _param_value(self, param, parameters, context):
         if parameters.get(param.name) is None:
@@ -206,8 +290,24 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
             return self.parameterAsEnumString(parameters, param.name, context)
         return self.parameterAsString(parameters, param.name, context)
 
+    def _working_crs(self, parameters, context):
+        """The chosen working CRS (checked to be projected), or None."""
+        if parameters.get(WORKING_CRS) in (None, ""):
+            return None
+        crs = self.parameterAsCrs(parameters, WORKING_CRS, context)
+        if not crs.isValid():
+            raise QgsProcessingException(
+                f"{WORKING_CRS}: {parameters[WORKING_CRS]!r} is not a CRS the GIS knows"
+            )
+        try:
+            working_crs(to_pyproj_crs(crs))
+        except ThrustmapError as error:
+            raise QgsProcessingException(f"{self._tool.name}: {error}") from error
+        return crs
+
     def processAlgorithm(self, parameters, context, feedback):  # noqa: N802
         tool = self._tool
+        crs = self._working_crs(parameters, context)
         inputs = {}
         for layer in tool.inputs:
             source = self.parameterAsSource(parameters, layer.name, context)
@@ -216,49 +316,96 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
                     raise QgsProcessingException(self.invalidSourceError(parameters, layer.name))
                 inputs[layer.name] = None
                 continue
-            inputs[layer.name] = source_to_frame(
+            path, layer_name, keys = self._layer_origin(parameters, layer.name, context)
+            frame = source_to_frame(
                 source,
                 geometry=layer.geometry,
-                skip_fields=self._key_fields(parameters, layer.name, context),
+                skip_fields=keys,
+                to_crs=crs,
+                transform_context=context.transformContext(),
                 feedback=feedback,
             )
-            feedback.pushInfo(f"{layer.name}: {len(inputs[layer.name])} features")
+            # As read_source records them, so that messages name the file and layer.
+            frame.attrs["source"] = path
+            frame.attrs["layer"] = layer_name
+            try:
+                layer.check(frame, source=path, layer=layer_name)
+            except ThrustmapError as error:
+                raise QgsProcessingException(f"{tool.name}: {error}") from error
+            inputs[layer.name] = frame
+            feedback.pushInfo(f"{layer.name}: {len(frame)} features")
         if feedback.isCanceled():
             return {}
         params = {p.name: self._param_value(p, parameters, context) for p in tool.params}
+        if crs is not None and any(p.name == WORKING_CRS for p in tool.params):
+            params[WORKING_CRS] = to_pyproj_crs(crs).to_string()
         feedback.setProgress(10)
-        result = self._run(inputs, params, feedback)
-        feedback.setProgress(80)
         outputs = {}
-        for output in tool.outputs:
-            key = OUTPUT_PREFIX + output.name
-            fields, features, wkb_type, crs = frame_to_features(
-                result[output.name], geometry=output.geometry
+        with self._reporting(feedback):
+            result = tool.run(inputs, params)
+            # Checks what came back; file outputs keyed by output name (folders by name/).
+            _, files = collect_outputs(
+                tool,
+                result,
+                names={
+                    o.name: f"{o.name}/" if o.is_folder else o.name
+                    for o in tool.outputs
+                    if isinstance(o, FileOutput)
+                },
             )
-            sink, destination = self.parameterAsSink(
-                parameters, key, context, fields, wkb_type, crs
-            )
-            if sink is None:
-                raise QgsProcessingException(self.invalidSinkError(parameters, key))
-            if not sink.addFeatures(features, QgsFeatureSink.FastInsert):
-                raise QgsProcessingException(f"{output.name}: {sink.lastError()}")
-            outputs[key] = destination
-            feedback.pushInfo(f"{output.name}: {len(features)} features written")
+            feedback.setProgress(80)
+            for output in tool.outputs:
+                key = OUTPUT_PREFIX + output.name
+                if isinstance(output, FileOutput):
+                    outputs[key] = self._write_files(output, files, parameters, key, context)
+                else:
+                    outputs[key] = self._write_layer(
+                        output, result[output.name], parameters, key, context
+                    )
+                feedback.pushInfo(f"{output.name}: {outputs[key]}")
         feedback.setProgress(100)
         return outputs
 
-    def _run(self, inputs, params, feedback):
+    def _write_layer(self, output, frame, parameters, key, context):
+        fields, features, wkb_type, crs = frame_to_features(frame, geometry=output.geometry)
+        sink, destination = self.parameterAsSink(parameters, key, context, fields, wkb_type, crs)
+        if sink is None:
+            raise QgsProcessingException(self.invalidSinkError(parameters, key))
+        if not sink.addFeatures(features, QgsFeatureSink.FastInsert):
+            raise QgsProcessingException(f"{output.name}: {sink.lastError()}")
+        return destination
+
+    def _write_files(self, output, files, parameters, key, context):
+        """Write one file output (or the files of a folder output) where the user chose."""
+        target = Path(self.parameterAsFileOutput(parameters, key, context))
+        if output.is_folder:
+            prefix = f"{output.name}/"
+            for name, content in files.items():
+                if name.startswith(prefix):
+                    write_file(target / name[len(prefix) :], content, overwrite=True)
+        else:
+            write_file(target, files[output.name], overwrite=True)
+        return str(target)
+
+    @contextlib.contextmanager
+    def _reporting(self, feedback):
+        """thrustmap's log and warnings to the feedback panel, its errors as the GIS's errors.
+
+        Figures (drawn when file outputs are written) use the off-screen backend.
+        """
         handler = _FeedbackHandler(feedback)
         logger = logging.getLogger("thrustmap")
         logger.addHandler(handler)
+        figures = _offscreen_figures() if self._writes_files() else contextlib.nullcontext()
         try:
-            with warnings.catch_warnings(record=True) as caught:
+            with warnings.catch_warnings(record=True) as caught, figures:
                 warnings.simplefilter("always")
-                result = self._tool.run(inputs, params)
+                try:
+                    yield
+                finally:
+                    for warning in caught:
+                        feedback.pushWarning(f"{warning.category.__name__}: {warning.message}")
         except ThrustmapError as error:
             raise QgsProcessingException(f"{self._tool.name}: {error}") from error
         finally:
             logger.removeHandler(handler)
-        for warning in caught:
-            feedback.pushWarning(f"{warning.category.__name__}: {warning.message}")
-        return result

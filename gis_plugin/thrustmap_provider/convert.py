@@ -112,7 +112,9 @@ def _geometry_wkb(feature, drop_m):
     return bytes(geometry.asWkb())
 
 
-def source_to_frame(source, *, geometry, skip_fields=(), feedback=None):
+def source_to_frame(
+    source, *, geometry, skip_fields=(), to_crs=None, transform_context=None, feedback=None
+):
     """Read a GIS feature source into a GeoDataFrame, or a DataFrame for ``geometry="table"``.
 
     Parameters
@@ -120,9 +122,15 @@ def source_to_frame(source, *, geometry, skip_fields=(), feedback=None):
     source : QgsFeatureSource
         The GIS's features (a layer or a processing feature source).
     geometry : str
-        Declared geometry of the tool input; ``"table"`` gives a plain DataFrame.
+        Declared geometry of the tool input; ``"table"``, or a source without
+        geometry, gives a plain DataFrame.
     skip_fields : iterable of str
         Field names to leave out (the data provider's own feature-id key).
+    to_crs : QgsCoordinateReferenceSystem, optional
+        Reproject the geometries to this CRS with the GIS's own transformation
+        (``transform_context``, the project's datum choices); a source without a
+        valid CRS is taken to be in it.
+    transform_context : QgsCoordinateTransformContext, optional
     feedback : QgsProcessingFeedback, optional
         Checked for cancellation.
 
@@ -135,9 +143,15 @@ def source_to_frame(source, *, geometry, skip_fields=(), feedback=None):
     fields = source.fields()
     keep = [i for i in range(fields.count()) if fields.at(i).name() not in set(skip_fields)]
     request = QgsFeatureRequest()
-    table = geometry == "table"
+    # A layer without geometry is a table whatever the input accepts, as thrustmap's readers have it.
+    table = geometry == "table" or source.wkbType() == QgsWkbTypes.NoGeometry
     if table:
         request.setFlags(QgsFeatureRequest.NoGeometry)
+    crs = source.sourceCrs()
+    if to_crs is not None and to_crs.isValid() and not table:
+        if crs.isValid() and crs != to_crs:
+            request.setDestinationCrs(to_crs, transform_context)
+        crs = to_crs
     drop_m = QgsWkbTypes.hasM(source.wkbType())
     rows, wkbs = [], []
     for feature in source.getFeatures(request):
@@ -160,7 +174,7 @@ def source_to_frame(source, *, geometry, skip_fields=(), feedback=None):
     return geopandas.GeoDataFrame(
         frame,
         geometry=shapely.from_wkb(np.array(wkbs, dtype=object)),
-        crs=to_pyproj_crs(source.sourceCrs()),
+        crs=to_pyproj_crs(crs),
     )
 
 

@@ -3,7 +3,7 @@
 from qgis.core import Qgis, QgsMessageLog, QgsProcessingProvider
 
 import thrustmap
-from thrustmap.tools.registry import list_tools
+from thrustmap.tools import registry
 
 from .algorithm import ThrustmapAlgorithm
 
@@ -35,7 +35,15 @@ class ThrustmapProvider(QgsProcessingProvider):
         return thrustmap.__version__
 
     def loadAlgorithms(self):  # noqa: N802
-        for tool in list_tools():
+        registry.refresh()  # a tool package installed since the last load appears
+        for broken in registry.list_broken():
+            QgsMessageLog.logMessage(
+                f"tool {broken.name!r} from {broken.origin} ({broken.entry_point}) is unavailable: "
+                f"{broken.error}",
+                LOG_TAG,
+                Qgis.Warning,
+            )
+        for tool in registry.list_tools():
             try:
                 algorithm = ThrustmapAlgorithm(tool)
             except ValueError as error:
