@@ -24,7 +24,7 @@ SYSTEM_PLUGINS = "/usr/share/qgis/python/plugins"
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
 os.environ.setdefault("PROJ_DATA", "/usr/share/proj")
 
-ENTRY_POINTS = "[thrustmap.tools]\nsample = thrustmap_gis_sample_tools\n"
+ENTRY_POINTS = "[thrustmap.tools]\nsample = thrustmap_gis_sample_tools:TOOLS\n"
 METADATA = "Metadata-Version: 2.1\nName: thrustmap-gis-sample-tools\nVersion: 0.1\n"
 
 # Folders the tests put on sys.path; a command-line GIS run needs them on PYTHONPATH too.
@@ -32,10 +32,6 @@ EXTRA_PATH: list[str] = []
 
 
 def pytest_configure(config):
-    # geopandas 1.0 still imports shapely.geos, deprecated in shapely 2.1; not ours to fix.
-    config.addinivalue_line(
-        "filterwarnings", "ignore:The 'shapely.geos' module is deprecated:DeprecationWarning"
-    )
     folder = Path(tempfile.mkdtemp(prefix="thrustmap-gis-entry-points-"))
     info = folder / "thrustmap_gis_sample_tools-0.1.dist-info"
     info.mkdir()

@@ -6,7 +6,7 @@ MEAN_PARAMS = {"min_count": 2}
 
 
 def ticks_then_domain_means(*, linked=True):
-    """Model: stations -> thrustmap:dip_ticks -> (ticks) -> thrustmap:domain_mean_plane <- domains.
+    """Model: stations -> thrustmap:dip-ticks -> (ticks) -> thrustmap:domain-mean-plane <- domains.
 
     ``linked=False`` leaves the ticks-to-attitudes link out (a model that must not validate).
     """
@@ -41,13 +41,13 @@ def ticks_then_domain_means(*, linked=True):
                 child.addParameterSources(definition.name(), [static(definition.defaultValue())])
         return child
 
-    ticks = QgsProcessingModelChildAlgorithm("thrustmap:dip_ticks")
+    ticks = QgsProcessingModelChildAlgorithm("thrustmap:dip-ticks")
     ticks.setChildId("ticks")
     ticks.addParameterSources("stations", [model_input("stations")])
     for key, value in TICK_PARAMS.items():
         ticks.addParameterSources(key, [static(value)])
     model.addChildAlgorithm(with_defaults(ticks))
-    means = QgsProcessingModelChildAlgorithm("thrustmap:domain_mean_plane")
+    means = QgsProcessingModelChildAlgorithm("thrustmap:domain-mean-plane")
     means.setChildId("means")
     if linked:
         means.addParameterSources(
@@ -70,7 +70,7 @@ def expected_domain_means(stations, domains):
     """The same chain in plain Python."""
     from thrustmap.tools.registry import get_tool
 
-    ticks = get_tool("dip_ticks").run({"stations": stations}, TICK_PARAMS)["ticks"]
-    return get_tool("domain_mean_plane").run({"attitudes": ticks, "domains": domains}, MEAN_PARAMS)[
+    ticks = get_tool("dip-ticks").run({"stations": stations}, TICK_PARAMS)["ticks"]
+    return get_tool("domain-mean-plane").run({"attitudes": ticks, "domains": domains}, MEAN_PARAMS)[
         "domain_means"
     ]

@@ -87,7 +87,7 @@ def test_runner_runs_a_tool(runner, gpkg, tmp_path):
     out = runner(
         "--json",
         "run",
-        "thrustmap:dip_ticks",
+        "thrustmap:dip-ticks",
         "--",
         f"stations={gpkg}|layername=stations",
         "length=300",
@@ -98,7 +98,7 @@ def test_runner_runs_a_tool(runner, gpkg, tmp_path):
     )
     assert set(_json(out)["results"]) == {"out_ticks", "out_tick_summary"}
     params = {"length": 300.0, "azimuth_field": "strike", "centred": True}
-    expected = get_tool("dip_ticks").run({"stations": read_layer(gpkg, "stations")}, params)
+    expected = get_tool("dip-ticks").run({"stations": read_layer(gpkg, "stations")}, params)
     assert_frames_match(read_layer(ticks), expected["ticks"], what="ticks")
     assert_frames_match(read_layer(summary, table=True), expected["tick_summary"], what="summary")
 

@@ -1,37 +1,37 @@
 """The thrustmap processing provider inside the real desktop GIS (headless).
 
-Reference for every comparison: the same declared tool run in plain Python
-(``Tool.run``) on the same GeoPackage read with pyogrio, outputs read back
-with pyogrio from the GeoPackages the GIS wrote.
+Reference for every comparison: the same declared tool run the way the
+command line runs it, on the same GeoPackage (see ``runs.py``).
 """
 
 import configparser
 from pathlib import Path
 
 import pytest
-from gisdata import CRS, assert_frames_match, read_layer, write_inputs
+from gisdata import CRS, write_inputs
+from runs import assert_outputs_match, run_in_gis, run_in_python
 
 import thrustmap
 from thrustmap.errors import ParameterError
-from thrustmap.tools.registry import get_tool, list_tools
+from thrustmap.tools.declare import FileOutput
+from thrustmap.tools.registry import get_tool, list_broken, list_tools
 
 PLUGIN = Path(__file__).resolve().parent.parent / "gis_plugin" / "thrustmap_provider"
+SAMPLE_ORIGIN = "thrustmap-gis-sample-tools"
 
 # (tool, {input: layer of the test GeoPackage}, parameters): every sample tool,
 # with defaults and with every parameter set, optional input given and left out.
 SAMPLE_CASES = [
-    ("dip_ticks", {"stations": "stations"}, {}),
+    ("dip-ticks", {"stations": "stations"}, {}),
     (
-        "dip_ticks",
+        "dip-ticks",
         {"stations": "stations"},
         {"length": 250.0, "azimuth_field": "strike", "centred": True, "prefix": "S-"},
     ),
-    ("domain_mean_plane", {"attitudes": "stations", "domains": "domains"}, {"min_count": 2}),
-    ("table_to_stations", {"table": "coords", "clip": "domains"}, {"crs": CRS}),
-    ("table_to_stations", {"table": "coords"}, {}),
+    ("domain-mean-plane", {"attitudes": "stations", "domains": "domains"}, {"min_count": 2}),
+    ("table-to-stations", {"table": "coords", "clip": "domains"}, {"crs": CRS}),
+    ("table-to-stations", {"table": "coords"}, {}),
 ]
-
-BUILTIN_TOOLS = [t for t in list_tools() if t.origin == "thrustmap"]
 
 
 @pytest.fixture(scope="module")
@@ -39,28 +39,8 @@ def gpkg(tmp_path_factory):
     return write_inputs(tmp_path_factory.mktemp("gis_inputs") / "inputs.gpkg")
 
 
-def _is_table(tool, name):
-    return next(i for i in tool.inputs if i.name == name).geometry == "table"
-
-
-def run_in_gis(tool, layers, params, gpkg, out_dir):
-    """Run through the GIS's processing framework with every output written to a GeoPackage."""
-    import processing
-
-    args = {name: f"{gpkg}|layername={layer}" for name, layer in layers.items()}
-    args.update(params)
-    paths = {o.name: out_dir / f"{o.name}.gpkg" for o in tool.outputs}
-    args.update({f"out_{name}": str(path) for name, path in paths.items()})
-    result = processing.run(f"thrustmap:{tool.name}", args)
-    assert set(result) >= {f"out_{name}" for name in paths}
-    return {o.name: read_layer(paths[o.name], table=o.geometry == "table") for o in tool.outputs}
-
-
-def run_in_python(tool, layers, params, gpkg):
-    inputs = {
-        name: read_layer(gpkg, layer, table=_is_table(tool, name)) for name, layer in layers.items()
-    }
-    return tool.run(inputs, params)
+def _sources(gpkg, layers):
+    return {name: (gpkg, layer) for name, layer in layers.items()}
 
 
 def test_every_tool_is_an_algorithm(provider):
@@ -69,13 +49,15 @@ def test_every_tool_is_an_algorithm(provider):
     assert provider.name() == "thrustmap"
     assert provider.longName() == f"thrustmap {thrustmap.__version__}"
     assert sorted(a.name() for a in provider.algorithms()) == sorted(t.name for t in tools)
-    names = {"dip_ticks", "domain_mean_plane", "table_to_stations"}
+    names = {"dip-ticks", "domain-mean-plane", "table-to-stations"}
     assert names <= {t.name for t in tools}, "the sample tool package was not discovered"
-    assert {t.origin for t in tools if t.name in names} == {"thrustmap-gis-sample-tools"}
+    assert {t.origin for t in tools if t.name in names} == {SAMPLE_ORIGIN}
+    assert list_broken() == []
 
 
 def test_every_tool_has_a_run_case():
-    covered = {case[0] for case in SAMPLE_CASES} | {t.name for t in BUILTIN_TOOLS}
+    covered = {case[0] for case in SAMPLE_CASES}
+    covered |= {t.name for t in list_tools() if t.origin != SAMPLE_ORIGIN and t.example is not None}
     assert {t.name for t in list_tools()} <= covered
 
 
@@ -84,11 +66,15 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
     from qgis.core import (
         QgsApplication,
         QgsProcessing,
+        QgsProcessingAlgorithm,
         QgsProcessingParameterBoolean,
+        QgsProcessingParameterCrs,
         QgsProcessingParameterDefinition,
         QgsProcessingParameterEnum,
         QgsProcessingParameterFeatureSink,
         QgsProcessingParameterFeatureSource,
+        QgsProcessingParameterFileDestination,
+        QgsProcessingParameterFolderDestination,
         QgsProcessingParameterNumber,
         QgsProcessingParameterString,
     )
@@ -115,8 +101,14 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
         "choice": QgsProcessingParameterEnum,
         "str": QgsProcessingParameterString,
     }
+    crs = alg.parameterDefinition("crs")
+    assert isinstance(crs, QgsProcessingParameterCrs)  # every algorithm, as on the command line
+    assert crs.flags() & QgsProcessingParameterDefinition.FlagOptional
     for p in tool.params:
         d = alg.parameterDefinition(p.name)
+        if p.name == "crs":
+            assert d.help() == p.help and d.defaultValue() == p.default
+            continue
         assert isinstance(d, kinds[p.type]), p.name
         assert d.help() == p.help
         if p.unit:
@@ -128,7 +120,6 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
                 else QgsProcessingParameterNumber.Integer
             )
             assert d.dataType() == number
-            assert d.defaultValue() == p.default
             if p.minimum is not None:
                 assert d.minimum() == p.minimum
             if p.maximum is not None:
@@ -136,13 +127,19 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
         elif p.type == "choice":
             assert d.options() == list(p.choices)
             assert d.usesStaticStrings()
-            assert d.defaultValue() == p.default
-        else:
-            assert d.defaultValue() == p.default
+        assert d.defaultValue() == p.default
     for output in tool.outputs:
         d = alg.parameterDefinition(f"out_{output.name}")
-        assert isinstance(d, QgsProcessingParameterFeatureSink)
-        assert d.dataType() == layer_types[output.geometry]
+        if isinstance(output, FileOutput) and output.is_folder:
+            assert isinstance(d, QgsProcessingParameterFolderDestination)
+        elif isinstance(output, FileOutput):
+            assert isinstance(d, QgsProcessingParameterFileDestination)
+            assert Path(output.filename).suffix in d.fileFilter()
+        else:
+            assert isinstance(d, QgsProcessingParameterFeatureSink)
+            assert d.dataType() == layer_types[output.geometry]
+    writes_files = any(isinstance(o, FileOutput) for o in tool.outputs)
+    assert bool(alg.flags() & QgsProcessingAlgorithm.FlagNoThreading) == writes_files
 
 
 @pytest.mark.parametrize(
@@ -152,61 +149,79 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
 )
 def test_sample_tool_matches_python(qgis_app, gpkg, tmp_path, name, layers, params):
     tool = get_tool(name)
-    got = run_in_gis(tool, layers, params, gpkg, tmp_path)
-    expected = run_in_python(tool, layers, params, gpkg)
-    for output in tool.outputs:
-        assert_frames_match(got[output.name], expected[output.name], what=f"{name}/{output.name}")
+    got = run_in_gis(tool, _sources(gpkg, layers), params, tmp_path)
+    assert_outputs_match(tool, got, run_in_python(tool, _sources(gpkg, layers), params))
 
 
 def test_sample_outputs_are_not_trivial(qgis_app, gpkg, tmp_path):
     """Guards the comparisons above: the runs produce rows, real values and real geometry."""
     ticks = run_in_gis(
-        get_tool("dip_ticks"), {"stations": "stations"}, {"length": 250.0}, gpkg, tmp_path
+        get_tool("dip-ticks"), _sources(gpkg, {"stations": "stations"}), {"length": 250.0}, tmp_path
     )
     assert len(ticks["ticks"]) == 13
     assert ticks["ticks"].length.round(6).eq(250.0).all()
     assert ticks["tick_summary"]["n_ticks"].tolist() == [13]
     means = run_in_gis(
-        get_tool("domain_mean_plane"),
-        {"attitudes": "stations", "domains": "domains"},
+        get_tool("domain-mean-plane"),
+        _sources(gpkg, {"attitudes": "stations", "domains": "domains"}),
         {"min_count": 2},
-        gpkg,
         tmp_path,
     )["domain_means"]
     assert means["n"].tolist() == [6, 5, 1]
     assert means["mean_dip"].isna().tolist() == [False, False, True]
     flagged = run_in_gis(
-        get_tool("table_to_stations"), {"table": "coords", "clip": "domains"}, {}, gpkg, tmp_path
+        get_tool("table-to-stations"),
+        _sources(gpkg, {"table": "coords", "clip": "domains"}),
+        {},
+        tmp_path,
     )["stations"]
     assert flagged["inside"].tolist() == [True, True, False, True]
 
 
-@pytest.mark.parametrize("tool", BUILTIN_TOOLS, ids=lambda t: t.name)
-def test_builtin_tool_matches_python(qgis_app, tmp_path_factory, tmp_path, tool):
+def test_working_crs_reprojects_the_inputs(qgis_app, gpkg, tmp_path):
+    """Stations stored in lon/lat, run in UTM: the GIS's transformation against pyproj's."""
     import pyogrio
-    from builtin_inputs import layers_for, write_builtin_inputs
+    from gisdata import read_layer
 
-    folder = tmp_path_factory.getbasetemp() / "builtin_inputs"
-    if not (folder / "builtin_inputs.gpkg").exists():
-        folder.mkdir(exist_ok=True)
-        write_builtin_inputs(folder)
-    source = folder / "builtin_inputs.gpkg"
-    layers = layers_for(tool, set(pyogrio.list_layers(source)[:, 0]))
-    got = run_in_gis(tool, layers, {}, source, tmp_path)
-    expected = run_in_python(tool, layers, {}, source)
-    for output in tool.outputs:
-        assert_frames_match(
-            got[output.name], expected[output.name], what=f"{tool.name}/{output.name}"
-        )
+    lonlat = tmp_path / "lonlat.gpkg"
+    pyogrio.write_dataframe(
+        read_layer(gpkg, "stations").to_crs("EPSG:4326"), lonlat, layer="stations"
+    )
+    tool = get_tool("dip-ticks")
+    sources = {"stations": (lonlat, "stations")}
+    got = run_in_gis(tool, sources, {"crs": CRS}, tmp_path)
+    assert got["ticks"].crs == CRS
+    assert_outputs_match(tool, got, run_in_python(tool, sources, {"crs": CRS}))
+
+
+@pytest.mark.parametrize(
+    ("crs", "message"),
+    [
+        ("EPSG:4326", "is not projected; distances need a projected CRS"),
+        ("no such crs", "crs: 'no such crs' is not a CRS the GIS knows"),
+    ],
+)
+def test_unusable_working_crs_is_refused(qgis_app, gpkg, tmp_path, crs, message):
+    import processing
+    from qgis.core import QgsProcessingException
+
+    args = {
+        "stations": f"{gpkg}|layername=stations",
+        "crs": crs,
+        "out_ticks": str(tmp_path / "t.gpkg"),
+        "out_tick_summary": str(tmp_path / "s.gpkg"),
+    }
+    with pytest.raises(QgsProcessingException, match=message):
+        processing.run("thrustmap:dip-ticks", args)
 
 
 @pytest.mark.parametrize(
     ("name", "param", "value"),
     [
-        ("dip_ticks", "length", 0.5),  # below the declared minimum of 1 m
-        ("dip_ticks", "length", 5000.5),  # above the declared maximum of 5000 m
-        ("domain_mean_plane", "min_count", 0),
-        ("dip_ticks", "azimuth_field", "trend"),  # not among the choices
+        ("dip-ticks", "length", 0.5),  # below the declared minimum of 1 m
+        ("dip-ticks", "length", 5000.5),  # above the declared maximum of 5000 m
+        ("domain-mean-plane", "min_count", 0),
+        ("dip-ticks", "azimuth_field", "trend"),  # not among the choices
     ],
 )
 def test_out_of_range_is_refused_by_the_gis(qgis_app, gpkg, tmp_path, name, param, value):
@@ -214,7 +229,7 @@ def test_out_of_range_is_refused_by_the_gis(qgis_app, gpkg, tmp_path, name, para
     from qgis.core import QgsApplication, QgsProcessingContext, QgsProcessingException
 
     tool = get_tool(name)
-    layers = {"dip_ticks": {"stations": "stations"}}.get(
+    layers = {"dip-ticks": {"stations": "stations"}}.get(
         name, {"attitudes": "stations", "domains": "domains"}
     )
     args = {k: f"{gpkg}|layername={v}" for k, v in layers.items()}
@@ -234,7 +249,7 @@ def test_out_of_range_is_refused_by_the_gis(qgis_app, gpkg, tmp_path, name, para
     ("params", "message"),
     [
         ({"x_field": "east"}, "layer table, field 'east': no such column"),
-        ({"crs": "no such crs"}, "parameter 'crs' = 'no such crs' is not a CRS"),
+        ({"y_field": "x", "x_field": "name"}, "field 'name': 4 value.s. missing or not numeric"),
     ],
 )
 def test_thrustmap_errors_reach_the_gis(qgis_app, gpkg, tmp_path, params, message):
@@ -243,7 +258,7 @@ def test_thrustmap_errors_reach_the_gis(qgis_app, gpkg, tmp_path, params, messag
 
     args = {"table": f"{gpkg}|layername=coords", "out_stations": str(tmp_path / "s.gpkg"), **params}
     with pytest.raises(QgsProcessingException, match=message):
-        processing.run("thrustmap:table_to_stations", args)
+        processing.run("thrustmap:table-to-stations", args)
 
 
 def test_plugin_metadata():

@@ -9,6 +9,7 @@ write line, point, polygon and table outputs.
 
 from __future__ import annotations
 
+import dataclasses
 import logging
 
 import geopandas
@@ -25,8 +26,9 @@ from thrustmap.orientation import (
     strike_to_dip_direction,
 )
 from thrustmap.tools import LayerInput, LayerOutput, Param, Tool
+from thrustmap.tools.options import CRS
 
-__all__ = ["DIP_TICKS", "DOMAIN_MEAN_PLANE", "TABLE_TO_STATIONS"]
+__all__ = ["DIP_TICKS", "DOMAIN_MEAN_PLANE", "TABLE_TO_STATIONS", "TOOLS"]
 
 logger = logging.getLogger(__name__)
 
@@ -130,7 +132,7 @@ def table_to_stations(
     y_field: str,
     crs: str,
 ) -> dict[str, pd.DataFrame]:
-    """Points from coordinate columns; ``inside`` tells whether each lies within the clip polygons."""
+    """Points from coordinate columns (in ``crs``); ``inside`` tells whether each lies within the clip polygons."""
     try:
         crs_value = pyproj.CRS.from_user_input(crs)
     except pyproj.exceptions.CRSError:
@@ -148,7 +150,7 @@ def table_to_stations(
 
 
 DIP_TICKS = Tool(
-    name="dip_ticks",
+    name="dip-ticks",
     summary="Draw a dip tick (line along the dip direction) at every station.",
     func=dip_ticks,
     inputs=(LayerInput("stations", "point", help="Stations with dip and an azimuth column."),),
@@ -185,7 +187,7 @@ DIP_TICKS = Tool(
 )
 
 DOMAIN_MEAN_PLANE = Tool(
-    name="domain_mean_plane",
+    name="domain-mean-plane",
     summary="Mean plane of the attitudes inside each domain polygon.",
     func=domain_mean_plane,
     inputs=(
@@ -203,7 +205,7 @@ DOMAIN_MEAN_PLANE = Tool(
 )
 
 TABLE_TO_STATIONS = Tool(
-    name="table_to_stations",
+    name="table-to-stations",
     summary="Make station points from a table of projected coordinates.",
     func=table_to_stations,
     inputs=(
@@ -213,8 +215,10 @@ TABLE_TO_STATIONS = Tool(
     params=(
         Param("x_field", "str", "x", help="Column of eastings."),
         Param("y_field", "str", "y", help="Column of northings."),
-        Param("crs", "str", "EPSG:32633", help="CRS of the coordinates."),
+        dataclasses.replace(CRS, default="EPSG:32633"),
     ),
     outputs=(LayerOutput("stations", "point", help="The points, with an inside flag."),),
     group="test drawing",
 )
+
+TOOLS = (DIP_TICKS, DOMAIN_MEAN_PLANE, TABLE_TO_STATIONS)
