@@ -15,6 +15,7 @@ from shapely import box
 from tests.synthetic_folds import synthetic_fold
 from thrustmap import domains as dm
 from thrustmap.errors import CRSError, InputError, ThrustmapWarning
+from thrustmap.io.vocabulary import LINE_FEATURES
 from thrustmap.orientation import angle_between_lines, dip_direction_to_strike
 
 CRS = "EPSG:32633"
@@ -23,8 +24,7 @@ CRS = "EPSG:32633"
 def attitudes(rows, crs=CRS):
     """An attitude table in the shape of the data contract from (x, y, feature, a, b, overturned)."""
     x, y, feature, a, b, over = (list(c) for c in zip(*rows, strict=True))
-    line_features = {"hinge_line", "lineation", "slickenline", "intersection_lineation"}
-    kind = ["line" if f in line_features else "plane" for f in feature]
+    kind = ["line" if f in LINE_FEATURES else "plane" for f in feature]
     a, b = np.asarray(a, float), np.asarray(b, float)
     is_plane = np.array([k == "plane" for k in kind])
     dd = np.where(is_plane, a, np.nan)

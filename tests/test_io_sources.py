@@ -5,12 +5,14 @@ import os
 import geopandas as gpd
 import pandas as pd
 import pyogrio
+import pyproj
 import pytest
 import shapely
 
 from thrustmap.errors import CRSError, InputError, OutputExistsError, SourceNotFoundError
-from thrustmap.io.atomic import atomic_path, write_file, write_geopackage
-from thrustmap.io.sources import read_source, split_source, working_crs
+from thrustmap.io.atomic import atomic_paths, write_file
+from thrustmap.io.sources import is_projected_metric, read_source, split_source, working_crs
+from thrustmap.io.write import write_layers
 
 
 def _points(crs="EPSG:4326"):
@@ -147,15 +149,25 @@ def test_working_crs_must_be_projected():
         working_crs("nonsense")
 
 
+@pytest.mark.parametrize(
+    ("crs", "expected"),
+    [("EPSG:32633", True), ("EPSG:2227", False), ("EPSG:4326", False)],
+)
+def test_projected_metric_crs(crs, expected):
+    # Axis units as pyproj reports them: UTM 33N in metres, California zone 3 in US
+    # survey feet, WGS 84 geographic in degrees.
+    assert is_projected_metric(pyproj.CRS(crs)) is expected
+
+
 def test_geopackage_is_written_atomically_and_not_overwritten(tmp_path):
     out = tmp_path / "sub" / "run.gpkg"
     table = pd.DataFrame({"pair": ["T1-T2"], "metres": [812.5]})
-    write_geopackage(out, {"points": _points(), "spacing": table})
+    write_layers(out, {"points": _points(), "spacing": table})
     assert pyogrio.list_layers(out)[:, 0].tolist() == ["points", "spacing"]
     assert gpd.read_file(out, layer="spacing", engine="fiona")["metres"].tolist() == [812.5]
     with pytest.raises(OutputExistsError, match="run.gpkg exists"):
-        write_geopackage(out, {"spacing": table})
-    write_geopackage(out, {"spacing": table}, overwrite=True)
+        write_layers(out, {"spacing": table})
+    write_layers(out, {"spacing": table}, overwrite=True, keep_layers=False)
     assert pyogrio.list_layers(out)[:, 0].tolist() == ["spacing"]
     assert os.listdir(out.parent) == ["run.gpkg"]  # no temporary file left
 
@@ -178,6 +190,6 @@ def test_writer_sees_the_final_suffix(tmp_path):
     seen = []
     write_file(tmp_path / "map.html", lambda path: seen.append(path.suffix) or path.write_text("x"))
     assert seen == [".html"]
-    with atomic_path(tmp_path / "b.bin") as tmp:
+    with atomic_paths(tmp_path / "b.bin") as (tmp,):
         tmp.write_bytes(b"\x00")
     assert (tmp_path / "b.bin").read_bytes() == b"\x00"

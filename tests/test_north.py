@@ -170,6 +170,20 @@ def test_declination_shapes_missing_and_heights():
     assert abs(ground - high) < 0.1
 
 
+def test_declination_at_an_hour_of_the_day():
+    # IGRF Gauss coefficients vary linearly in time between epochs (Alken et al. 2021,
+    # "International Geomagnetic Reference Field: the thirteenth generation", Earth Planets
+    # Space 73:49), so over one day D at noon is midway between the two midnights.
+    midnight = float(declination(15.0, 45.0, "2024-06-03"))
+    next_midnight = float(declination(15.0, 45.0, "2024-06-04"))
+    noon = float(declination(15.0, 45.0, "2024-06-03", hour=12.0))
+    assert noon != midnight
+    assert noon == pytest.approx((midnight + next_midnight) / 2.0, abs=1e-8)
+    assert float(declination(15.0, 45.0, "2024-06-03", hour=24.0)) == next_midnight
+    with pytest.raises(ParameterError, match="hour = 25.0 is not valid"):
+        declination(15.0, 45.0, "2024-06-03", hour=25.0)
+
+
 @pytest.mark.parametrize(
     ("kwargs", "match"),
     [

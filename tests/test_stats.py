@@ -56,6 +56,21 @@ def test_tauxe_worked_example():
     assert s.mean_plunge == pytest.approx(90.0, abs=1e-9)
 
 
+def test_fisher_k_alpha_from_n_and_r():
+    # Tauxe, Essentials of Paleomagnetism, ch. 4 (Fisher 1953): N = 10, R = 9.1220
+    # -> k = 10.25, alpha95 = 15.8.
+    k, alpha = stats.fisher_k_alpha(10, 9.1220)
+    assert k == pytest.approx(10.25, abs=0.005)
+    assert alpha == pytest.approx(15.8, abs=0.05)
+    # Fisher (1953): k = (N - 1)/(N - R) grows without bound as R -> N; no cone for R = 0.
+    assert stats.fisher_k_alpha(4, 4.0) == (float("inf"), 0.0)
+    assert stats.fisher_k_alpha(4, 0.0)[1] == 180.0
+    with pytest.raises(DegenerateDataError, match="at least 2"):
+        stats.fisher_k_alpha(1, 1.0)
+    with pytest.raises(ParameterError, match="strictly between 0 and 1"):
+        stats.fisher_k_alpha(10, 9.0, conf=1.0)
+
+
 @pytest.mark.parametrize("conf", [0.95, 0.99])
 def test_matches_mplstereonet_find_fisher_stats(conf):
     # Reference library: mplstereonet.find_fisher_stats returns

@@ -28,6 +28,7 @@ from pyproj import CRS
 
 from thrustmap.errors import OutputExistsError, ParameterError
 from thrustmap.io.grid import read_ascii_grid
+from thrustmap.io.vocabulary import LINE_FEATURES, PLANE_FEATURES
 from thrustmap.orientation import (
     line_to_vector,
     parse_lines,
@@ -41,20 +42,7 @@ from thrustmap.synth.__main__ import main
 
 REPO = Path(__file__).resolve().parents[1]
 SAMPLE = REPO / "sample_gis"
-CANONICAL = {
-    "bedding",
-    "cleavage",
-    "foliation",
-    "fault",
-    "thrust",
-    "joint",
-    "vein",
-    "axial_plane",
-    "hinge_line",
-    "lineation",
-    "slickenline",
-    "intersection_lineation",
-}  # CONTRACT.md feature vocabulary
+CANONICAL = set(PLANE_FEATURES + LINE_FEATURES)  # CONTRACT.md feature vocabulary
 PLANE_TYPES = {"bedding", "cleavage", "thrust"}
 
 

@@ -122,6 +122,13 @@ def test_failure_on_a_new_file_leaves_nothing(tmp_path, monkeypatch):
     assert list(tmp_path.iterdir()) == []
 
 
+def test_driver_given_whatever_the_extension(tmp_path, engine):
+    path = tmp_path / "run.txt"
+    assert write_layers(path, {"points": _points()}, driver="GeoJSON", engine=engine) == path
+    assert pyogrio.read_info(path)["driver"] == "GeoJSON"  # pyogrio reads the file
+    assert [p.name for p in tmp_path.iterdir()] == ["run.txt"]
+
+
 def test_creates_missing_folders(tmp_path):
     path = tmp_path / "out" / "nested" / "run.gpkg"
     write_layers(path, {"points": _points()})
@@ -150,6 +157,12 @@ def test_creates_missing_folders(tmp_path):
             {"a": _points()},
             {"engine": "gdal"},
             "engine='gdal' is not valid; choose one of pyogrio, fiona",
+        ),
+        (
+            "run.gpkg",
+            {"a": _points()},
+            {"driver": "CSV"},
+            "driver='CSV' is not valid; use one of ESRI Shapefile, GPKG, GeoJSON",
         ),
     ],
 )

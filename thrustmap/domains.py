@@ -21,9 +21,9 @@ import shapely
 
 from thrustmap.errors import CRSError, DegenerateDataError, InputError, ThrustmapWarning
 from thrustmap.folds import FoldFit, fit_fold
+from thrustmap.north import true_to_grid
 from thrustmap.orientation import (
     dip_direction_to_strike,
-    normalize_azimuth,
     plane_to_pole,
     pole_to_plane,
 )
@@ -551,8 +551,8 @@ def _fold_axes(points, crs) -> gpd.GeoDataFrame:
         row = {DOMAIN_COLUMN: name, "n": fit.n, **{k: d[k] for k in _FOLD_COLUMNS}}
         row["azimuth_ref"] = "true"
         if convergence is not None:
-            row["axis_trend_grid"] = float(normalize_azimuth(fit.axis_trend - convergence))
-            ap_grid = float(normalize_azimuth(fit.axial_plane_dip_direction - convergence))
+            row["axis_trend_grid"] = float(true_to_grid(fit.axis_trend, convergence))
+            ap_grid = float(true_to_grid(fit.axial_plane_dip_direction, convergence))
             row["axial_plane_dip_direction_grid"] = ap_grid
             row["axial_plane_strike_grid"] = float(dip_direction_to_strike(ap_grid))
         rows.append(row)

@@ -8,8 +8,8 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from thrustmap.errors import OutputExistsError, ParameterError
-from thrustmap.io.atomic import write_file
+from thrustmap.errors import ParameterError
+from thrustmap.io.atomic import atomic_paths
 
 __all__ = ["CAUTION", "FIGURE_FORMATS", "add_caution", "figure_writer", "save_figure"]
 
@@ -88,7 +88,7 @@ def save_figure(
     dpi: int = 200,
     overwrite: bool = False,
 ) -> list[Path]:
-    """Save a figure as ``stem.png``, ``stem.svg``, ... each through a temporary file and a rename.
+    """Save a figure as ``stem.png``, ``stem.svg``, ... through temporary files renamed when all are done.
 
     Parameters
     ----------
@@ -130,12 +130,9 @@ def save_figure(
         raise ParameterError(f"figure formats: give at least one of {', '.join(FIGURE_FORMATS)}")
     for target in targets:
         _format(target)
-    existing = [str(p) for p in targets if p.exists()]
-    if existing and not overwrite:
-        raise OutputExistsError(
-            f"output exists: {', '.join(existing)}; pass overwrite=True (--overwrite) to replace it"
-        )
+    with atomic_paths(*targets, overwrite=overwrite) as temps:
+        for tmp in temps:
+            _savefig(fig, tmp, dpi)
     for target in targets:
-        write_file(target, lambda tmp: _savefig(fig, Path(tmp), dpi), overwrite=overwrite)
         log.info("wrote %s", target)
     return targets

@@ -105,7 +105,12 @@ def parse_dates(values: object) -> NDArray[np.datetime64]:
 
 
 def declination(
-    lon: ArrayLike, lat: ArrayLike, date: object, *, height_km: ArrayLike = 0.0
+    lon: ArrayLike,
+    lat: ArrayLike,
+    date: object,
+    *,
+    height_km: ArrayLike = 0.0,
+    hour: float = 0.0,
 ) -> Float:
     """Magnetic declination (degrees, east positive) from the IGRF at points and dates.
 
@@ -121,6 +126,9 @@ def declination(
         One date for all points, or one per point (see :func:`parse_dates`).
     height_km : array_like, optional
         Height above the ellipsoid, kilometres. Keyword only.
+    hour : float, optional
+        Hour of the day (UTC, 0 to 24) at which each date's field is taken;
+        midnight by default. Keyword only.
 
     Returns
     -------
@@ -132,13 +140,16 @@ def declination(
     ------
     ParameterError
         When dates are given per point but their number does not match the
-        points, or a date lies outside the model's period (:func:`igrf_period`).
+        points, a date lies outside the model's period (:func:`igrf_period`),
+        or ``hour`` is outside 0 to 24.
 
     Examples
     --------
     >>> round(float(declination(-120.0, -80.0, "2025-01-01")), 1)
     68.8
     """
+    if not 0.0 <= hour <= 24.0:
+        raise ParameterError(f"declination: hour = {hour!r} is not valid; give an hour from 0 to 24 (UTC)")
     lon_b, lat_b, h_b = np.broadcast_arrays(
         np.asarray(lon, dtype=float),
         np.asarray(lat, dtype=float),
@@ -169,7 +180,7 @@ def declination(
 
     for day in np.unique(days[ok]):
         idx = np.flatnonzero(ok & (days == day))
-        when = pd.Timestamp(day).to_pydatetime()
+        when = (pd.Timestamp(day) + pd.Timedelta(hours=hour)).to_pydatetime()
         for part in np.array_split(idx, -(-idx.size // _CHUNK)):
             be, bn, _ = ppigrf.igrf(lon_f[part], lat_f[part], h_f[part], when)
             out[part] = np.degrees(np.arctan2(be[0], bn[0]))

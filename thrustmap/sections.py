@@ -30,12 +30,14 @@ import numpy as np
 import pandas as pd
 import shapely
 from numpy.typing import ArrayLike, NDArray
-from pyproj import CRS, Proj, Transformer
+from pyproj import CRS
 
 from thrustmap.errors import CRSError, InputError, ParameterError
 from thrustmap.figures import CAUTION, add_caution
+from thrustmap.north import convergence, true_to_grid
 from thrustmap.orientation import line_to_vector, normalize_azimuth, plane_to_normal
 from thrustmap.profiles import (
+    _azimuth_of,
     _line_geometries,
     check_grid_crs,
     crossing_distances,
@@ -289,13 +291,10 @@ def section_topography(line: Any, grid: Any, *, step: float | None = None, secti
 
 
 def _true_to_grid(azimuth: Float, xy: Float, crs: Any) -> tuple[Float, bool]:
-    """Grid-north azimuths from true-north ones at points (pyproj meridian convergence)."""
+    """Grid-north azimuths from true-north ones at points; unchanged (and False) without a CRS."""
     if crs is None:
         return azimuth, False
-    c = CRS.from_user_input(crs)
-    lon, lat = Transformer.from_crs(c, c.geodetic_crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
-    gamma = np.asarray(Proj(c).get_factors(lon, lat).meridian_convergence, dtype=float)
-    return normalize_azimuth(azimuth - gamma), True
+    return true_to_grid(azimuth, convergence(xy[:, 0], xy[:, 1], crs)), True
 
 
 def section_thrusts(
@@ -471,12 +470,11 @@ def build_section(
         topo = section_topography(gpd.GeoSeries([geom], crs=crs), grid, step=step, section_id=section_id)
     else:
         topo = gpd.GeoDataFrame({"section_id": [], "distance_m": [], "elevation": []}, geometry=[], crs=crs)
-    (x0, y0), (x1, y1) = shapely.get_coordinates(geom)[[0, -1]]
     line_layer = gpd.GeoDataFrame(
         {
             "section_id": [section_id],
             "length_m": [geom.length],
-            "azimuth_grid": [float(np.degrees(np.arctan2(x1 - x0, y1 - y0)) % 360.0)],
+            "azimuth_grid": [_azimuth_of(geom)],
             "buffer_m": [float(buffer)],
             "n_points": [len(points)],
             "n_thrusts": [len(crossings)],

@@ -39,6 +39,7 @@ __all__ = [
     "DensityGrid",
     "DENSITY_METHODS",
     "fisher_stats",
+    "fisher_k_alpha",
     "orientation_tensor",
     "fabric_shape",
     "density",
@@ -209,6 +210,56 @@ class FisherStats:
     axial: bool
 
 
+def _check_conf(conf: float) -> None:
+    if not 0.0 < conf < 1.0:
+        raise ParameterError(f"conf = {conf!r} must lie strictly between 0 and 1 (e.g. 0.95)")
+
+
+def fisher_k_alpha(n: int, r: float, *, conf: float = 0.95) -> tuple[float, float]:
+    """Fisher (1953) precision k and confidence-cone half-angle alpha from N and R.
+
+    k = (N - 1) / (N - R), infinite when N - R vanishes;
+    cos(alpha) = 1 - (N - R) / R * ((1 / p)^(1 / (N - 1)) - 1), p = 1 - conf.
+
+    Parameters
+    ----------
+    n : int
+        Number of unit vectors, at least 2.
+    r : float
+        Length of their resultant (vector sum).
+    conf : float
+        Confidence level of the cone, 0 < conf < 1. Keyword only.
+
+    Returns
+    -------
+    k : float
+        Precision.
+    alpha : float
+        Cone half-angle, degrees; 180 where the data are too dispersed for a
+        cone (cos(alpha) below -1, or R = 0).
+
+    Raises
+    ------
+    DegenerateDataError
+        When ``n`` is below 2.
+    ParameterError
+        ``conf`` outside (0, 1).
+
+    Examples
+    --------
+    >>> k, alpha = fisher_k_alpha(10, 9.1220)
+    >>> round(k, 2), round(alpha, 1)
+    (10.25, 15.8)
+    """
+    _check_conf(conf)
+    if n < 2:
+        raise DegenerateDataError(f"Fisher statistics need at least 2 measurements; got {n}")
+    k = float("inf") if n - r <= _ZERO * n else (n - 1.0) / (n - r)
+    p = 1.0 - conf
+    cos_alpha = 1.0 - (n - r) / r * ((1.0 / p) ** (1.0 / (n - 1.0)) - 1.0) if r > 0 else -2.0
+    return k, float(np.degrees(np.arccos(np.clip(cos_alpha, -1.0, 1.0))))
+
+
 def fisher_stats(
     trend: ArrayLike, plunge: ArrayLike, *, conf: float = 0.95, axial: bool = True
 ) -> FisherStats:
@@ -256,8 +307,7 @@ def fisher_stats(
     >>> round(s.mean_trend, 1), round(s.mean_plunge, 1), s.n
     (14.9, 44.9, 5)
     """
-    if not 0.0 < conf < 1.0:
-        raise ParameterError(f"conf = {conf!r} must lie strictly between 0 and 1 (e.g. 0.95)")
+    _check_conf(conf)
     x = _lines(trend, plunge)
     n = x.shape[1]
     if n < 2:
@@ -271,17 +321,14 @@ def fisher_stats(
         resultant = x.sum(axis=1)
     _warn_not_unimodal(vals, n)
     r = min(float(np.linalg.norm(resultant)), float(n))
-    k = float("inf") if n - r <= _ZERO * n else (n - 1.0) / (n - r)
-    p = 1.0 - conf
-    cos_alpha = 1.0 - (n - r) / r * ((1.0 / p) ** (1.0 / (n - 1.0)) - 1.0) if r > 0 else -2.0
-    if cos_alpha < -1.0:
+    k, alpha = fisher_k_alpha(n, r, conf=conf)
+    if alpha == 180.0:
         warnings.warn(
             f"fisher_stats: N = {n}, R = {r:.4g}: the data are too dispersed for a "
             f"{conf:.0%} confidence cone; alpha set to 180 degrees",
             ThrustmapWarning,
             stacklevel=2,
         )
-    alpha = float(np.degrees(np.arccos(np.clip(cos_alpha, -1.0, 1.0))))
     mean = resultant / r if r > 0 else vecs[:, 0]
     if axial:
         t, pl = vector_to_line(mean)

@@ -3,7 +3,7 @@
 One figure per domain: poles to planes and lines by feature type over the
 density of the folded surface's poles, the pi-girdle, the fold axis with its
 95 % confidence cone, the axial plane, and a box with the fold's numbers.
-Figures are written as PNG and SVG, each to a temporary file then renamed.
+Figures are written as PNG and SVG by :func:`thrustmap.figures.save_figure`.
 """
 
 from __future__ import annotations
@@ -11,7 +11,6 @@ from __future__ import annotations
 import logging
 import os
 import re
-import tempfile
 from pathlib import Path
 
 import mplstereonet  # noqa: F401  (registers the stereonet projections)
@@ -22,7 +21,7 @@ from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
 
 from thrustmap.domains import DOMAIN_COLUMN, DomainStatistics
-from thrustmap.errors import OutputExistsError, ParameterError
+from thrustmap.figures import save_figure
 from thrustmap.folds import FoldFit
 from thrustmap.orientation import dip_direction_to_strike, plane_to_pole
 from thrustmap.stats import density
@@ -30,7 +29,6 @@ from thrustmap.stats import density
 __all__ = [
     "FEATURE_STYLES",
     "plot_stereonet",
-    "save_figure",
     "write_stereonet",
     "write_domain_stereonets",
     "stereonet_filename",
@@ -296,60 +294,6 @@ def _summary(fig: Figure, fit: FoldFit) -> None:
     )
 
 
-def save_figure(
-    fig: Figure, path: str | os.PathLike, *, overwrite: bool = False, dpi: int = 200
-) -> Path:
-    """Write a figure atomically (temporary file in the same folder, then rename).
-
-    The format follows the suffix (``.png``, ``.svg``, ``.pdf``).
-
-    Parameters
-    ----------
-    fig : matplotlib.figure.Figure
-    path : path-like
-    overwrite : bool
-        Replace an existing file. Keyword only.
-    dpi : int
-        Resolution of raster formats.
-
-    Returns
-    -------
-    pathlib.Path
-
-    Raises
-    ------
-    OutputExistsError
-        The file exists and ``overwrite`` is False.
-
-    Examples
-    --------
-    >>> import tempfile, pathlib
-    >>> from matplotlib.figure import Figure
-    >>> folder = pathlib.Path(tempfile.mkdtemp())
-    >>> save_figure(Figure(), folder / "empty.png").name
-    'empty.png'
-    """
-    target = Path(path)
-    if target.exists() and not overwrite:
-        raise OutputExistsError(f"{target} exists; pass overwrite=True to replace it")
-    target.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.stem}-", suffix=target.suffix, dir=target.parent)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            fig.savefig(
-                handle,
-                format=target.suffix.lstrip(".").lower(),
-                dpi=dpi,
-                facecolor=fig.get_facecolor(),
-            )
-        os.replace(tmp, target)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    log.info("wrote %s", target)
-    return target
-
-
 def _safe_name(name: str) -> str:
     return re.sub(r"[^A-Za-z0-9_.-]+", "_", str(name)).strip("._") or "domain"
 
@@ -412,14 +356,10 @@ def write_stereonet(
     >>> [p.name for p in write_stereonet(rows, tempfile.mkdtemp(), "D1", formats=("svg",))]
     ['stereonet_D1.svg']
     """
-    bad = [f for f in formats if f not in ("png", "svg", "pdf")]
-    if bad:
-        raise ParameterError(f"unknown figure format(s) {bad}; choose from png, svg, pdf")
     fig = plot_stereonet(attitudes, fit=fit, title=title)
-    return [
-        save_figure(fig, Path(folder) / stereonet_filename(name, fmt), overwrite=overwrite)
-        for fmt in formats
-    ]
+    # save_figure gives the stem each format's suffix in turn
+    stem = Path(folder) / stereonet_filename(name, "png")
+    return save_figure(fig, stem, formats=formats, overwrite=overwrite)
 
 
 def write_domain_stereonets(

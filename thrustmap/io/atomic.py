@@ -1,110 +1,111 @@
-"""Atomic writing of run outputs: each file appears complete or not at all.
+"""Atomic output: each file appears complete or not at all.
 
-Everything is first written to a hidden temporary file beside the target and
-then renamed over it, so an interrupted run never leaves a half-written
-GeoPackage or figure, and an existing output is replaced only when asked.
+Outputs are written into a hidden temporary folder beside their targets, on the
+same file system, and moved over the targets with :func:`os.replace` only when
+all of them are complete. An interrupted write leaves any earlier file as it
+was, and an existing output is replaced only when asked.
 """
 
 from __future__ import annotations
 
 import logging
 import os
-import uuid
-from collections.abc import Callable, Iterator, Mapping
+import shutil
+import tempfile
+from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
 
-import pandas as pd
-import pyogrio
-
 from thrustmap.errors import OutputExistsError, ParameterError
 
-__all__ = ["atomic_path", "write_geopackage", "write_file"]
+__all__ = ["FileContent", "atomic_paths", "check_targets", "write_file"]
 
 log = logging.getLogger(__name__)
 
 FileContent = str | bytes | Callable[[Path], object]
 
 
-@contextmanager
-def atomic_path(path: str | os.PathLike[str], *, overwrite: bool = False) -> Iterator[Path]:
-    """Yield a temporary path beside ``path`` that is renamed to ``path`` on success.
-
-    The temporary name keeps the suffix, so writers that choose the format from
-    it (matplotlib, GDAL) behave as for the final name. On an exception the
-    temporary file is removed and ``path`` is untouched.
-
-    Raises
-    ------
-    OutputExistsError
-        When ``path`` exists and ``overwrite`` is false.
-
-    Examples
-    --------
-    >>> import tempfile
-    >>> target = Path(tempfile.mkdtemp()) / "note.txt"
-    >>> with atomic_path(target) as tmp:
-    ...     _ = tmp.write_text("done")
-    >>> target.read_text()
-    'done'
-    """
-    final = Path(path)
-    if final.exists() and not overwrite:
-        raise OutputExistsError(f"{final} exists; use --overwrite (overwrite=True) to replace it")
-    final.parent.mkdir(parents=True, exist_ok=True)
-    tmp = final.with_name(f".{final.stem}.{uuid.uuid4().hex[:8]}.tmp{final.suffix}")
-    try:
-        yield tmp
-        os.replace(tmp, final)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
-
-
-def write_geopackage(
-    path: str | os.PathLike[str], layers: Mapping[str, pd.DataFrame], *, overwrite: bool = False
-) -> Path:
-    """Write frames as the layers of one GeoPackage, atomically.
-
-    GeoDataFrames become spatial layers, plain DataFrames attribute tables.
+def check_targets(paths: Iterable[str | os.PathLike[str]], *, overwrite: bool) -> None:
+    """Refuse to replace existing outputs unless ``overwrite`` is true.
 
     Parameters
     ----------
-    path : str or path
-        The GeoPackage to write.
-    layers : mapping of str to DataFrame or GeoDataFrame
-        Layer name to frame, written in this order.
+    paths : iterable of path-like
+        The outputs about to be written.
     overwrite : bool
-        Replace an existing file. Keyword only.
-
-    Returns
-    -------
-    Path
-        ``path``.
+        Existing outputs may be replaced. Keyword only.
 
     Raises
     ------
     OutputExistsError
-        When the file exists and ``overwrite`` is false.
-    ParameterError
-        When ``layers`` is empty.
+        Naming the first output that exists, when ``overwrite`` is false.
 
     Examples
     --------
-    >>> import tempfile
-    >>> out = Path(tempfile.mkdtemp()) / "run.gpkg"
-    >>> _ = write_geopackage(out, {"spacing": pd.DataFrame({"metres": [812.5]})})
-    >>> pyogrio.list_layers(out)[:, 0].tolist()
-    ['spacing']
+    >>> check_targets([Path("no-such-output.gpkg")], overwrite=False)
     """
-    if not layers:
-        raise ParameterError(f"{path}: no layers to write")
-    with atomic_path(path, overwrite=overwrite) as tmp:
-        for name, frame in layers.items():
-            pyogrio.write_dataframe(frame, tmp, layer=name, driver="GPKG")
-            log.debug("layer %s: %d rows", name, len(frame))
-    log.debug("wrote %s (%d layers)", path, len(layers))
-    return Path(path)
+    if overwrite:
+        return
+    for path in paths:
+        if Path(path).exists():
+            raise OutputExistsError(
+                f"{path} exists; use --overwrite (overwrite=True) to replace it"
+            )
+
+
+@contextmanager
+def atomic_paths(
+    *paths: str | os.PathLike[str], overwrite: bool = False
+) -> Iterator[tuple[Path, ...]]:
+    """Yield temporary paths to write; move them onto ``paths`` when the block succeeds.
+
+    Each temporary path has its target's file name, so writers that choose the
+    format from the suffix (matplotlib, GDAL) behave as for the final name. They
+    live in a hidden folder beside the first target, so each final
+    :func:`os.replace` is atomic. When the block raises, nothing is moved and the
+    folder is removed. A target the block leaves unwritten is removed, so a set
+    of files such as a shapefile's parts is replaced as a whole.
+
+    Parameters
+    ----------
+    *paths : path-like
+        Final output paths, all in one folder (created when missing).
+    overwrite : bool
+        Replace existing outputs. Keyword only.
+
+    Yields
+    ------
+    tuple of Path
+        One temporary path per target.
+
+    Raises
+    ------
+    OutputExistsError
+        When a target exists and ``overwrite`` is false (see :func:`check_targets`).
+
+    Examples
+    --------
+    >>> folder = Path(tempfile.mkdtemp())
+    >>> with atomic_paths(folder / "a.txt") as (tmp,):
+    ...     _ = tmp.write_text("done")
+    >>> (folder / "a.txt").read_text(), sorted(p.name for p in folder.iterdir())
+    ('done', ['a.txt'])
+    """
+    targets = [Path(p) for p in paths]
+    check_targets(targets, overwrite=overwrite)
+    folder = targets[0].parent
+    folder.mkdir(parents=True, exist_ok=True)
+    staging = Path(tempfile.mkdtemp(prefix=".thrustmap-", dir=folder))
+    try:
+        temps = tuple(staging / p.name for p in targets)
+        yield temps
+        for tmp, final in zip(temps, targets, strict=True):
+            if tmp.exists():
+                os.replace(tmp, final)
+            else:
+                final.unlink(missing_ok=True)
+    finally:
+        shutil.rmtree(staging, ignore_errors=True)
 
 
 def write_file(
@@ -118,7 +119,7 @@ def write_file(
         The file to write.
     content : str, bytes or callable
         Text (written as UTF-8), bytes, or ``writer(path)`` that writes the file
-        at the temporary path it is given.
+        at the temporary path it is given (with the final file name).
     overwrite : bool
         Replace an existing file. Keyword only.
 
@@ -136,7 +137,6 @@ def write_file(
 
     Examples
     --------
-    >>> import tempfile
     >>> out = write_file(Path(tempfile.mkdtemp()) / "a.md", "# Notes\\n")
     >>> out.read_text()
     '# Notes\\n'
@@ -145,7 +145,7 @@ def write_file(
         raise ParameterError(
             f"{path}: file content must be text, bytes or a writer callable; got {type(content).__name__}"
         )
-    with atomic_path(path, overwrite=overwrite) as tmp:
+    with atomic_paths(path, overwrite=overwrite) as (tmp,):
         if isinstance(content, str):
             tmp.write_text(content, encoding="utf-8")
         elif isinstance(content, bytes):

@@ -39,7 +39,7 @@ from thrustmap.io.cells import (
     read_words,
 )
 from thrustmap.io.columns import detect_columns
-from thrustmap.io.sources import TABLE_SUFFIXES, read_source
+from thrustmap.io.sources import TABLE_SUFFIXES, is_projected_metric, read_source
 from thrustmap.io.validation import FLAGS, REASONS, RowVerdicts, join_flags, reason_counts
 from thrustmap.io.vocabulary import (
     FEATURE_WORDS,
@@ -682,7 +682,7 @@ def _given_working_crs(working_crs: object) -> pyproj.CRS | None:
         work = pyproj.CRS.from_user_input(working_crs)
     except pyproj.exceptions.CRSError as exc:
         raise CRSError(f"working_crs={working_crs!r} is not a CRS pyproj knows ({exc})") from exc
-    if not (work.is_projected and _metric(work)):
+    if not is_projected_metric(work):
         raise ParameterError(
             f"working_crs={working_crs!r} must be a projected CRS in metres; {work.name} is not"
         )
@@ -692,7 +692,7 @@ def _given_working_crs(working_crs: object) -> pyproj.CRS | None:
 def _working_crs(given: pyproj.CRS | None, src: pyproj.CRS, lon: Float, lat: Float) -> pyproj.CRS:
     if given is not None:
         return given
-    if src.is_projected and _metric(src):
+    if is_projected_metric(src):
         return src
     if lon.size == 0:
         log.info("no accepted rows: the working CRS stays %s", src.name)
@@ -703,10 +703,6 @@ def _working_crs(given: pyproj.CRS | None, src: pyproj.CRS, lon: Float, lat: Flo
     work = corners.estimate_utm_crs()
     log.info("working CRS %s (local UTM zone for %s)", work.name, src.name)
     return work
-
-
-def _metric(crs: pyproj.CRS) -> bool:
-    return all(a.unit_name in ("metre", "meter") for a in crs.axis_info[:2])
 
 
 def _rejected(

@@ -19,7 +19,7 @@ from numpy.typing import ArrayLike, NDArray
 from pyproj import CRS
 
 from thrustmap.errors import InputError, ParameterError
-from thrustmap.io._atomic import atomic_paths
+from thrustmap.io.atomic import atomic_paths
 
 __all__ = ["Grid", "read_ascii_grid", "write_ascii_grid"]
 

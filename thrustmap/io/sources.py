@@ -28,6 +28,7 @@ __all__ = [
     "read_source",
     "parse_crs",
     "working_crs",
+    "is_projected_metric",
     "TABLE_SUFFIXES",
     "SHEET_SUFFIXES",
     "ENGINES",
@@ -88,6 +89,19 @@ def working_crs(crs: Any) -> pyproj.CRS:
             value=crs,
         )
     return parsed
+
+
+def is_projected_metric(crs: pyproj.CRS) -> bool:
+    """Whether a CRS is projected with both horizontal axes in metres.
+
+    Examples
+    --------
+    >>> is_projected_metric(pyproj.CRS("EPSG:32633")), is_projected_metric(pyproj.CRS("EPSG:2227"))
+    (True, False)
+    """
+    return crs.is_projected and all(
+        (a.unit_name or "").lower() in ("metre", "meter") for a in crs.axis_info[:2]
+    )
 
 
 def parse_crs(crs: Any) -> pyproj.CRS:

@@ -1,8 +1,7 @@
-"""Atomic writers for GeoPackage, GeoJSON and Shapefile outputs.
+"""Writing layers to GeoPackage, GeoJSON and Shapefile outputs, atomically.
 
-Everything is written into a temporary folder beside the target and moved into
-place with :func:`os.replace`, so a reader never sees a half-written file and a
-failure leaves any earlier file as it was.
+Files go through :func:`thrustmap.io.atomic.atomic_paths`, so a reader never
+sees a half-written file and a failure leaves any earlier file as it was.
 """
 
 from __future__ import annotations
@@ -10,14 +9,14 @@ from __future__ import annotations
 import logging
 import os
 import shutil
-import tempfile
 from collections.abc import Mapping
 from pathlib import Path
 
 import geopandas as gpd
 import pandas as pd
 
-from thrustmap.errors import OutputExistsError, ParameterError
+from thrustmap.errors import InputError, ParameterError
+from thrustmap.io.atomic import atomic_paths
 from thrustmap.io.sources import ENGINES
 
 __all__ = ["write_layers", "DRIVERS"]
@@ -36,36 +35,48 @@ def write_layers(
     *,
     overwrite: bool = False,
     engine: str | None = None,
+    driver: str | None = None,
+    keep_layers: bool = True,
+    layer_options: Mapping[str, str] | None = None,
 ) -> Path:
     """Write named layers to one file, atomically.
 
     Parameters
     ----------
     path : path-like
-        Output file; the driver follows the extension: ``.gpkg`` (GeoPackage,
-        any number of layers), ``.geojson``/``.json`` (GeoJSON) or ``.shp``
-        (Shapefile), the last two with exactly one layer. Missing folders are created.
+        Output file; the driver follows the extension unless given: ``.gpkg``
+        (GeoPackage, any number of layers), ``.geojson``/``.json`` (GeoJSON) or
+        ``.shp`` (Shapefile), the last two with exactly one layer. Missing folders
+        are created.
     layers : mapping of str to (Geo)DataFrame
         Layer name to data. A plain DataFrame (or a GeoDataFrame without an active
         geometry) is written as an attribute-only table.
     overwrite : bool, default False
         Replace an existing file. For an existing GeoPackage only the named layers
-        are replaced; its other layers are kept. Keyword only.
+        are replaced; its other layers are kept (see ``keep_layers``). Keyword only.
     engine : {"pyogrio", "fiona"}, optional
         I/O engine; default geopandas' default. Keyword only.
+    driver : {"GPKG", "GeoJSON", "ESRI Shapefile"}, optional
+        Write with this driver whatever the extension. Keyword only.
+    keep_layers : bool, default True
+        When overwriting a GeoPackage, keep its layers not in ``layers``; False
+        writes a new file holding only ``layers``. Keyword only.
+    layer_options : mapping of str to str, optional
+        GDAL layer creation options of the driver for geometry layers, e.g.
+        ``{"RFC7946": "YES"}`` for GeoJSON. Keyword only.
 
     Returns
     -------
     pathlib.Path
-        The written file.
+        The written file (for a Shapefile, its ``.shp`` part).
 
     Raises
     ------
     OutputExistsError
-        When ``path`` exists and ``overwrite`` is False.
+        When ``path`` (or a part of a Shapefile) exists and ``overwrite`` is False.
     ParameterError
-        For an unknown extension or engine, no layers, or several layers for a
-        single-layer format.
+        For an unknown extension, driver or engine, no layers, or several layers
+        for a single-layer format.
 
     Examples
     --------
@@ -77,7 +88,12 @@ def write_layers(
     'run.gpkg'
     """
     path = Path(path)
-    driver = DRIVERS.get(path.suffix.lower())
+    if driver is not None and driver not in DRIVERS.values():
+        raise ParameterError(
+            f"cannot write {path}: driver={driver!r} is not valid; use one of "
+            + ", ".join(sorted(set(DRIVERS.values())))
+        )
+    driver = driver or DRIVERS.get(path.suffix.lower())
     if driver is None:
         raise ParameterError(
             f"cannot write {path}: unknown extension {path.suffix!r}; use one of "
@@ -92,27 +108,15 @@ def write_layers(
         )
     engine = _engine(engine)
     parts = _parts(path, driver)
-    exists = any(p.exists() for p in parts)
-    if exists and not overwrite:
-        raise OutputExistsError(f"{path} exists; pass overwrite=True to replace it")
-    path.parent.mkdir(parents=True, exist_ok=True)
-    staging = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent))
-    try:
-        target = staging / path.name
-        if driver == "GPKG" and exists:
+    with atomic_paths(*parts, overwrite=overwrite) as temps:
+        target = temps[0]
+        if driver == "GPKG" and keep_layers and path.exists():
             shutil.copy2(path, target)
         for name, frame in layers.items():
-            _write_one(target, name, frame, driver=driver, engine=engine)
-        written = {p.suffix.lower(): p for p in staging.iterdir()}
-        for old in parts:
-            if old.suffix.lower() not in written and old.exists():
-                old.unlink()
-        for suffix, new in written.items():
-            os.replace(new, path.with_suffix(suffix) if driver == "ESRI Shapefile" else path)
-    finally:
-        shutil.rmtree(staging, ignore_errors=True)
-    log.info("wrote %s (%s)", path, ", ".join(layers))
-    return path
+            _write_one(target, name, frame, driver=driver, engine=engine,
+                       options=dict(layer_options or {}))
+    log.debug("wrote %s (%s)", parts[0], ", ".join(layers))
+    return parts[0]
 
 
 def _engine(engine: str | None) -> str:
@@ -134,11 +138,19 @@ def _is_table(frame: pd.DataFrame) -> bool:
     return frame.active_geometry_name is None or frame.active_geometry_name not in frame
 
 
-def _write_one(path: Path, name: str, frame: pd.DataFrame, *, driver: str, engine: str) -> None:
+def _write_one(
+    path: Path, name: str, frame: pd.DataFrame, *, driver: str, engine: str, options: dict[str, str]
+) -> None:
     """Write one layer into ``path`` (created or extended)."""
+    for column, dtype in frame.dtypes.items():
+        if getattr(dtype, "kind", "O") in ("m", "c"):  # durations, complex numbers
+            raise InputError(
+                f"a {driver} file cannot store a {dtype} column; convert it to numbers or text first",
+                source=str(path.name), layer=name, field=str(column),
+            )
     layer = {"layer": name} if driver == "GPKG" else {}
     if not _is_table(frame):
-        frame.to_file(path, driver=driver, engine=engine, **layer)
+        frame.to_file(path, driver=driver, engine=engine, **layer, **options)
     elif engine == "pyogrio":
         import pyogrio
 

@@ -6,15 +6,13 @@ import datetime as dt
 
 import numpy as np
 import pandas as pd
-import ppigrf
 from numpy.typing import NDArray
 
-from thrustmap.orientation import normalize_azimuth
+from thrustmap.north import true_to_magnetic
 
 SURVEY_START = dt.date(2024, 6, 3)
 STATIONS_PER_DAY = 9
 MAX_SURVEY_DAYS = 35
-IGRF_BLOCK = 20000
 BAD_FRACTION = 0.035
 CARDINAL_SNAP = 1.5
 PLANE_STYLES = ("rhr", "letter", "quadrant")
@@ -82,26 +80,6 @@ def survey_dates(lon: NDArray, rng: np.random.Generator) -> tuple[NDArray, NDArr
     return rank, days[workday]
 
 
-def declination(lon: NDArray, lat: NDArray, elevation_m: NDArray, dates: NDArray) -> NDArray:
-    """IGRF declination (degrees, east positive) at each station on its survey date.
-
-    D = atan2(Be, Bn) from ppigrf's geodetic field components. ppigrf
-    evaluates every date at every point, so stations go in blocks.
-    """
-    out = np.empty(lon.size)
-    h_km = np.asarray(elevation_m, float) / 1000.0
-    unique, which = np.unique(dates, return_inverse=True)
-    when = [dt.datetime(d.year, d.month, d.day, 12) for d in unique]
-    for lo in range(0, lon.size, IGRF_BLOCK):
-        b = slice(lo, lo + IGRF_BLOCK)
-        be, bn, _ = ppigrf.igrf(lon[b], lat[b], h_km[b], when)
-        be = np.asarray(be).reshape(len(when), -1)
-        bn = np.asarray(bn).reshape(len(when), -1)
-        cols = np.arange(be.shape[1])
-        out[b] = np.degrees(np.arctan2(be[which[b], cols], bn[which[b], cols]))
-    return out
-
-
 def write_attitudes(rows: pd.DataFrame, rng: np.random.Generator) -> pd.DataFrame:
     """Magnetic, rounded attitude texts in mixed notations for good rows.
 
@@ -113,14 +91,14 @@ def write_attitudes(rows: pd.DataFrame, rng: np.random.Generator) -> pd.DataFram
     n = len(rows)
     plane = (rows["kind"] == "plane").to_numpy()
     decl = rows["declination"].to_numpy()
-    strike_exact = normalize_azimuth(rows["dip_direction"].to_numpy() - 90.0 - decl)
+    strike_exact = true_to_magnetic(rows["dip_direction"].to_numpy() - 90.0, decl)
     off = (strike_exact + 45.0) % 90.0 - 45.0
     cardinal = plane & (np.abs(off) <= CARDINAL_SNAP)
     strike = np.where(cardinal, strike_exact - off, strike_exact)
     strike = np.round(np.nan_to_num(strike)).astype(int) % 360
     dip = np.clip(np.round(np.nan_to_num(rows["dip"].to_numpy())), 1, 89).astype(int)
     trend = (
-        np.round(np.nan_to_num(normalize_azimuth(rows["trend"].to_numpy() - decl))).astype(int)
+        np.round(np.nan_to_num(true_to_magnetic(rows["trend"].to_numpy(), decl))).astype(int)
         % 360
     )
     plunge = np.clip(np.round(np.nan_to_num(rows["plunge"].to_numpy())), 1, 89).astype(int)

@@ -19,8 +19,9 @@ from dataclasses import dataclass
 import numpy as np
 import shapely
 from numpy.typing import NDArray
-from pyproj import CRS, Proj, Transformer
+from pyproj import Transformer
 
+from thrustmap.north import convergence, true_to_grid
 from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_vector,
@@ -121,15 +122,9 @@ def transformer_to_lonlat() -> Transformer:
     return Transformer.from_crs(CRS_EPSG, 4326, always_xy=True)
 
 
-def convergence(x: Float, y: Float) -> Float:
-    """Meridian convergence (degrees, pyproj sign: grid north east of true north is positive)."""
-    lon, lat = transformer_to_lonlat().transform(x, y)
-    return np.asarray(Proj(CRS.from_epsg(CRS_EPSG)).get_factors(lon, lat).meridian_convergence)
-
-
 def centre_convergence() -> float:
-    """Meridian convergence at the centre of the study area, degrees."""
-    return float(convergence(np.array([CENTRE[0]]), np.array([CENTRE[1]]))[0])
+    """Meridian convergence at the centre of the study area, degrees (pyproj sign)."""
+    return float(convergence(np.array([CENTRE[0]]), np.array([CENTRE[1]]), CRS_EPSG)[0])
 
 
 def _unit(azimuth: float) -> tuple[float, float]:
@@ -238,7 +233,7 @@ def fold_frame(transport_true: float, gamma: float) -> FoldFrame:
         forward=c,
         axial_normal=n_ap,
         theta_max=theta_max,
-        profile_azimuth_grid=(dd + 180.0 - gamma) % 360.0,
+        profile_azimuth_grid=true_to_grid(dd + 180.0, gamma),
         wavelength=np.array([f.wavelength for f in FOLDS]),
         phase=np.array([f.phase for f in FOLDS]),
     )

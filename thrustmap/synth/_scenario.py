@@ -17,8 +17,9 @@ import shapely
 
 from thrustmap._version import __version__
 from thrustmap.errors import ParameterError
-from thrustmap.io._atomic import atomic_paths
+from thrustmap.io.atomic import atomic_paths
 from thrustmap.io.grid import Grid, write_ascii_grid
+from thrustmap.north import convergence, declination, grid_to_true
 from thrustmap.orientation import (
     dip_direction_to_strike,
     line_to_vector,
@@ -136,7 +137,7 @@ def _thrust_layer(gamma: float, area: shapely.Polygon) -> tuple[gpd.GeoDataFrame
         coords = np.asarray(line.coords)
         tangent = coords[-1] - coords[0]
         hw_grid = np.degrees(np.arctan2(tangent[1], -tangent[0]))
-        hw_true = float(normalize_azimuth(hw_grid + gamma))
+        hw_true = float(grid_to_true(hw_grid, gamma))
         if t.reverse_digitised:
             line = shapely.reverse(line)
         side = "left" if t.reverse_digitised else "right"
@@ -248,7 +249,7 @@ def _measure(x: np.ndarray, y: np.ndarray, ctx: dict, rng: np.random.Generator) 
     site = np.arange(n)
     dom = m.domain_index(x, y)
     phase = m.fold_phase(frame, dom, x, y)
-    gamma = m.convergence(x, y)
+    gamma = convergence(x, y, m.CRS_EPSG)
 
     exact = m.younging(frame, dom, phase)
     noisy = m.fisher(exact, m.KAPPA["bedding"], rng)
@@ -313,7 +314,7 @@ def _thrust_measurements(x, y, gamma, ctx, rng) -> pd.DataFrame:
     sel, seg = site[keep], seg[keep]
     t = end[seg] - start[seg]
     # segments run toward +u, so the hanging wall (hinterland) is on their right
-    dd = normalize_azimuth(np.degrees(np.arctan2(t[:, 1], -t[:, 0])) + gamma[sel])
+    dd = grid_to_true(np.degrees(np.arctan2(t[:, 1], -t[:, 0])), gamma[sel])
     dip = np.array([tt.dip for tt in m.THRUSTS])[owner[seg]]
     exact_n = plane_to_normal(dd, dip)
     noisy_n = m.fisher(exact_n, m.KAPPA["thrust"], rng)
@@ -391,7 +392,8 @@ def _field_sheet(
 ) -> tuple[pd.DataFrame, pd.DataFrame, dict]:
     lon, lat = m.transformer_to_lonlat().transform(x, y)
     rank, dates = fs.survey_dates(lon, rng)
-    decl = fs.declination(lon, lat, grid.sample(x, y), dates)
+    # each station on its survey date, at midday, at its ground elevation
+    decl = declination(lon, lat, dates, height_km=grid.sample(x, y) / 1000.0, hour=12.0)
     ids = np.char.add("FS", np.char.zfill((rank + 1).astype(str), 3))
 
     # a thrust measurement is noted as two rows: the surface, then its slickenlines

@@ -13,8 +13,9 @@ import pyproj
 import shapely
 
 from thrustmap.errors import DegenerateDataError, ParameterError
+from thrustmap.north import convergence as grid_convergence
+from thrustmap.north import grid_to_true, true_to_grid
 from thrustmap.thrusts._geometry import unit_vectors
-from thrustmap.thrusts._north import grid_convergence, grid_to_true, true_to_grid
 from thrustmap.thrusts.hanging_wall import (
     given_sides,
     hw_dip_directions,

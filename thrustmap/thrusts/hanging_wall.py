@@ -17,6 +17,8 @@ import pyproj
 import shapely
 from numpy.typing import ArrayLike, NDArray
 
+from thrustmap.north import convergence as grid_convergence
+from thrustmap.north import true_to_grid
 from thrustmap.thrusts._geometry import (
     azimuth_of,
     direction_sums,
@@ -24,7 +26,6 @@ from thrustmap.thrusts._geometry import (
     tangents_at,
     unit_vectors,
 )
-from thrustmap.thrusts._north import grid_convergence, true_to_grid
 
 __all__ = [
     "ALONG_TRACE_LIMIT",

@@ -18,7 +18,10 @@ import shapely
 from numpy.typing import ArrayLike, NDArray
 
 from thrustmap.errors import DegenerateDataError, ParameterError
+from thrustmap.north import convergence as grid_convergence
+from thrustmap.north import grid_to_true, magnetic_to_true, true_to_grid
 from thrustmap.orientation import line_to_vector, normalize_azimuth
+from thrustmap.stats import fisher_k_alpha
 from thrustmap.thrusts._geometry import (
     axial_mean,
     azimuth_of,
@@ -27,7 +30,6 @@ from thrustmap.thrusts._geometry import (
     segments,
     unit_vectors,
 )
-from thrustmap.thrusts._north import grid_convergence, grid_to_true, true_to_grid
 
 __all__ = [
     "AZIMUTH_REFS",
@@ -124,9 +126,7 @@ def fisher_mean(
         raise DegenerateDataError(f"no mean direction: {n} vectors with resultant {r:.3g}")
     if n < 2:
         return s / r, r, float("nan"), float("nan")
-    kappa = float("inf") if n - r < 1e-12 else (n - 1) / (n - r)
-    cos_a = 1.0 - (n - r) / r * ((1.0 / p) ** (1.0 / (n - 1)) - 1.0)
-    cone = float(np.degrees(np.arccos(np.clip(cos_a, -1.0, 1.0))))
+    kappa, cone = fisher_k_alpha(n, r, conf=1.0 - p)
     return s / r, r, kappa, cone
 
 
@@ -179,7 +179,7 @@ def given_transport(
             raise ParameterError(
                 "transport_azimuth is magnetic: give the declination (degrees, east positive)"
             )
-        true = float(normalize_azimuth(az + float(declination)))
+        true = float(magnetic_to_true(az, float(declination)))
         grid = float(true_to_grid(true, convergence))
     elif azimuth_ref == "true":
         grid = float(true_to_grid(az, convergence))

@@ -18,6 +18,7 @@ import pyproj
 import shapely
 
 from thrustmap.errors import CRSError, InputError
+from thrustmap.io.sources import is_projected_metric
 from thrustmap.thrusts._geometry import direction_sums, explode
 
 __all__ = [
@@ -99,10 +100,7 @@ def working_crs(
             source=source,
         )
     crs = pyproj.CRS(crs)
-    metric = crs.is_projected and all(
-        (a.unit_name or "").lower() in ("metre", "meter") for a in crs.axis_info[:2]
-    )
-    if metric:
+    if is_projected_metric(crs):
         return crs
     if sample is None or sample.is_empty.all():
         raise CRSError(

@@ -3,8 +3,10 @@
 The command line and the pipeline both go through these functions, so a tool
 behaves the same whichever way it is started. Inputs are read by
 :func:`thrustmap.io.sources.read_source` and checked against the declared
-geometry; outputs are written by :mod:`thrustmap.io.atomic`, layers into one
-GeoPackage and files into the output folder.
+geometry; outputs are written atomically, layers into one GeoPackage by
+:func:`thrustmap.io.write.write_layers` and files into the output folder by
+:func:`thrustmap.io.atomic.write_file`; :func:`check_targets` (from
+:mod:`thrustmap.io.atomic`) refuses to start over existing outputs.
 """
 
 from __future__ import annotations
@@ -16,9 +18,10 @@ from typing import Any
 
 import pandas as pd
 
-from thrustmap.errors import OutputExistsError, ThrustmapError
-from thrustmap.io.atomic import FileContent, write_file, write_geopackage
+from thrustmap.errors import ThrustmapError
+from thrustmap.io.atomic import FileContent, check_targets, write_file
 from thrustmap.io.sources import read_source
+from thrustmap.io.write import write_layers
 from thrustmap.tools.declare import FileOutput, LayerOutput, Tool
 
 __all__ = [
@@ -139,27 +142,6 @@ def collect_outputs(
     return layers, files
 
 
-def check_targets(paths: list[Path], *, overwrite: bool) -> None:
-    """Refuse to start when an output exists and overwriting was not asked for.
-
-    Raises
-    ------
-    OutputExistsError
-        Naming the first output that exists.
-
-    Examples
-    --------
-    >>> check_targets([Path("no-such-output.gpkg")], overwrite=False)
-    """
-    if overwrite:
-        return
-    for path in paths:
-        if path.exists():
-            raise OutputExistsError(
-                f"{path} exists; use --overwrite (overwrite=True) to replace it"
-            )
-
-
 def write_outputs(
     layers: Mapping[str, pd.DataFrame],
     files: Mapping[str, FileContent],
@@ -204,7 +186,7 @@ def write_outputs(
     check_targets(targets, overwrite=overwrite)
     written = []
     if layers:
-        written.append(write_geopackage(geopackage, layers, overwrite=overwrite))
+        written.append(_write_geopackage(geopackage, layers, overwrite=overwrite))
     for relative, content in files.items():
         written.append(write_file(folder / relative, content, overwrite=overwrite))
     return written
@@ -240,7 +222,7 @@ def example_invocation(tool: Tool, folder: Path) -> tuple[dict[str, str], dict[s
     sources = {k: str(v) for k, v in built.items() if not isinstance(v, pd.DataFrame)}
     if frames:
         path = folder / "example_inputs.gpkg"
-        write_geopackage(path, frames, overwrite=True)
+        _write_geopackage(path, frames, overwrite=True)
         sources.update({k: f"{path}:{k}" for k in frames})
     return sources, dict(tool.example.params)
 
@@ -260,3 +242,10 @@ def declared_targets(tool: Tool, *, geopackage: Path | None, folder: Path) -> li
     if geopackage is not None and any(isinstance(o, LayerOutput) for o in tool.outputs):
         targets.insert(0, geopackage)
     return targets
+
+
+def _write_geopackage(path: Path, layers: Mapping[str, pd.DataFrame], *, overwrite: bool) -> Path:
+    """A run's GeoPackage: exactly ``layers``, whatever the file is named."""
+    return write_layers(
+        path, layers, overwrite=overwrite, driver="GPKG", engine="pyogrio", keep_layers=False
+    )

@@ -13,23 +13,13 @@ from thrustmap.domains import (
     domains_from_polygons,
 )
 from thrustmap.figures import figure_writer
+from thrustmap.io.vocabulary import PLANE_FEATURES
 from thrustmap.stereonet import plot_stereonet, stereonet_filename
 from thrustmap.tools import LayerInput, LayerOutput, Param, Tool
 from thrustmap.tools._sample import sample_attitudes, scenario
 from thrustmap.tools.declare import Example, FileOutput
 
 __all__ = ["DOMAIN_STATISTICS", "ASSIGN_DOMAINS", "TOOLS"]
-
-_PLANE_FEATURES = (
-    "bedding",
-    "cleavage",
-    "foliation",
-    "fault",
-    "thrust",
-    "joint",
-    "vein",
-    "axial_plane",
-)
 
 _ATTITUDES = LayerInput(
     "attitudes", "point", help="Attitude table (as read by read-attitudes), in the working CRS."
@@ -104,7 +94,7 @@ DOMAIN_STATISTICS = Tool(
             "choice",
             default="bedding",
             help="Planar feature whose poles define the folds.",
-            choices=_PLANE_FEATURES,
+            choices=PLANE_FEATURES,
         ),
         Param(
             "n_boot",

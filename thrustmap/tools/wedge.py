@@ -18,6 +18,7 @@ import shapely
 
 from thrustmap.errors import InputError, ParameterError
 from thrustmap.figures import figure_writer
+from thrustmap.north import true_to_grid
 from thrustmap.profiles import plot_profiles, sample_profiles, surface_profiles, transport_lines
 from thrustmap.sections import (
     _true_to_grid,
@@ -243,7 +244,7 @@ def _down_plunge(
         )
     # the axis is given in true north; the view is built in grid north
     if "convergence" in chosen.columns and chosen["convergence"].notna().any():
-        trend_grid = (float(axis_trend) - float(chosen["convergence"].mean())) % 360.0
+        trend_grid = float(true_to_grid(float(axis_trend), float(chosen["convergence"].mean())))
     else:
         centre = np.asarray(chosen.geometry.union_all().centroid.coords)
         trend_grid = float(_true_to_grid(np.array([float(axis_trend)]), centre, chosen.crs)[0][0])
