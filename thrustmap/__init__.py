@@ -6,6 +6,7 @@ from thrustmap.folds import fit_fold
 from thrustmap.io.attitudes import read_attitudes
 from thrustmap.orientation import parse_plane, parse_planes
 from thrustmap.thrusts import analyze_thrusts
+from thrustmap.webmap import write_map
 from thrustmap.wedge import critical_taper
 
 __all__ = [
@@ -17,4 +18,5 @@ __all__ = [
     "fit_fold",
     "analyze_thrusts",
     "critical_taper",
+    "write_map",
 ]

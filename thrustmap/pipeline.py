@@ -58,7 +58,9 @@ import pandas as pd
 
 from thrustmap._version import __version__
 from thrustmap.errors import InputError, ParameterError, SourceNotFoundError, ToolLoadError
+from thrustmap.io.atomic import write_file
 from thrustmap.io.sources import parse_crs, read_source, working_crs
+from thrustmap.provenance import PROVENANCE_LAYER, file_sha256, sidecar_path
 from thrustmap.tools import registry, runner
 from thrustmap.tools.declare import FileOutput, LayerOutput, Tool
 from thrustmap.tools.options import AZIMUTH_REF, DECLINATION
@@ -75,8 +77,6 @@ __all__ = [
 
 log = logging.getLogger(__name__)
 
-#: Layer of the run GeoPackage recording every step.
-PROVENANCE_LAYER = "provenance"
 _INPUT_METADATA = ("azimuth_ref", "declination", "date")
 _KEYS = {
     "top": ("project", "inputs", "domains", "steps"),
@@ -670,6 +670,7 @@ def run_project(
         spec = project.inputs[name]
         frames[name] = read_source(spec.path, layer=spec.layer, crs=spec.crs, to_crs=project.crs)
     base = project.path.parent
+    digests = {name: file_sha256(project.inputs[name].path) for name in sorted(used)}
     layers: dict[str, pd.DataFrame] = {}
     files: dict[str, Any] = {}
     produced: dict[str, pd.DataFrame] = {}
@@ -711,6 +712,9 @@ def run_project(
                         for k, r in step.inputs.items()
                     }
                 ),
+                "input_sha256": json.dumps(
+                    {k: digests[r] for k, r in step.inputs.items() if r in digests}
+                ),
                 "params": json.dumps(step.params, default=str),
                 "outputs": json.dumps(step.outputs),
                 "started_utc": started.isoformat(timespec="seconds"),
@@ -727,6 +731,24 @@ def run_project(
         folder=folder,
         overwrite=overwrite,
     )
+    sidecar = {
+        "thrustmap_version": __version__,
+        "created_utc": dt.datetime.now(dt.UTC).isoformat(timespec="seconds"),
+        "project": {"name": project.path.name, "sha256": file_sha256(project.path)},
+        "inputs": [
+            {
+                "name": name,
+                "path": _relative(project.inputs[name].path, base),
+                "layer": project.inputs[name].layer,
+                "sha256": digest,
+                "bytes": project.inputs[name].path.stat().st_size,
+            }
+            for name, digest in digests.items()
+        ],
+        "steps": provenance,
+        "geopackage": {"name": geopackage.name, "sha256": file_sha256(geopackage)},
+    }
+    write_file(sidecar_path(geopackage), json.dumps(sidecar, indent=2) + "\n", overwrite=True)
     return RunResult(
         geopackage=geopackage,
         layers={name: len(frame) for name, frame in {**layers, PROVENANCE_LAYER: table}.items()},
@@ -741,6 +763,7 @@ _PROVENANCE_COLUMNS = [
     "origin",
     "tool_version",
     "inputs",
+    "input_sha256",
     "params",
     "outputs",
     "started_utc",

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import logging
 from typing import Any
 
 import pandas as pd
@@ -11,6 +12,8 @@ from thrustmap.tools._sample import sample_file, scenario
 from thrustmap.tools.declare import Example, LayerInput, LayerOutput, Param, Tool
 
 __all__ = ["TOOLS"]
+
+log = logging.getLogger(__name__)
 
 
 def _run(
@@ -27,6 +30,7 @@ def _run(
         age_constraints=age_constraints,
         **params,
     )
+    log.info("%s", result.summary())
     return result.layers()
 
 
