@@ -33,3 +33,18 @@ clean:
 # Regenerate the synthetic demo data in sample_gis/ (see sample_gis/README.md).
 sample: $(STAMP)
 	$(BIN)/python -m thrustmap.synth sample_gis --overwrite
+
+# Desktop GIS (QGIS from the Debian archive): the plugin zip, its tests, and the main
+# suite again on the GIS's Debian-pinned Python stack (.venv-gis, made by the setup script).
+GIS_ENV := QT_QPA_PLATFORM=offscreen PROJ_DATA=/usr/share/proj
+.PHONY: gis-plugin test-gis test-gis-stack
+gis-plugin:
+	$(PYTHON) scripts/build_gis_plugin.py
+
+test-gis: gis-plugin
+	bash scripts/setup_gis_env.sh
+	$(GIS_ENV) .venv-gis/bin/python -m pytest -q tests_gis
+
+test-gis-stack:
+	bash scripts/setup_gis_env.sh
+	$(GIS_ENV) .venv-gis/bin/python -m pytest -q

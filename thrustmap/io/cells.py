@@ -280,7 +280,8 @@ def read_planes(
     att.az360 |= numeric & (az_num == 360.0)
 
     # columns holding notation: strike "N30E" with dip "45SE"; dip direction "S60E"
-    field = az_header + "/" + dip_header
+    # np.char.add: numpy 1.24 (the desktop GIS's) has no "+" for string arrays.
+    field = np.char.add(az_header, "/" + dip_header)
     strike_rows = in_columns & ~numeric & use_strike
     dd_rows = in_columns & ~numeric & use_dd
     if strike_rows.any() or dd_rows.any():
