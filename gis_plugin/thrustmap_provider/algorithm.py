@@ -20,6 +20,7 @@ from qgis.core import (
     QgsProcessingParameterBoolean,
     QgsProcessingParameterCrs,
     QgsProcessingParameterEnum,
+    QgsProcessingParameterFile,
     QgsProcessingParameterFeatureSink,
     QgsProcessingParameterFeatureSource,
     QgsProcessingParameterFileDestination,
@@ -90,6 +91,10 @@ def _parameter_definition(param):
             param.default,
             optional,
             True,  # static strings: values are the choice names, in models and on the command line
+        )
+    elif param.type == "file":
+        definition = QgsProcessingParameterFile(
+            param.name, label, QgsProcessingParameterFile.File, "", param.default, optional
         )
     else:
         definition = QgsProcessingParameterString(param.name, label, param.default, False, optional)
@@ -288,6 +293,8 @@ class ThrustmapAlgorithm(QgsProcessingAlgorithm):
             return self.parameterAsBoolean(parameters, param.name, context)
         if param.type == "choice":
             return self.parameterAsEnumString(parameters, param.name, context)
+        if param.type == "file":
+            return self.parameterAsFile(parameters, param.name, context)
         return self.parameterAsString(parameters, param.name, context)
 
     def _working_crs(self, parameters, context):
