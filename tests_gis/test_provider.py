@@ -73,6 +73,7 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
         QgsProcessingParameterEnum,
         QgsProcessingParameterFeatureSink,
         QgsProcessingParameterFeatureSource,
+        QgsProcessingParameterFile,
         QgsProcessingParameterFileDestination,
         QgsProcessingParameterFolderDestination,
         QgsProcessingParameterNumber,
@@ -100,6 +101,7 @@ def test_dialog_follows_the_declaration(qgis_app, tool):
         "bool": QgsProcessingParameterBoolean,
         "choice": QgsProcessingParameterEnum,
         "str": QgsProcessingParameterString,
+        "file": QgsProcessingParameterFile,
     }
     crs = alg.parameterDefinition("crs")
     assert isinstance(crs, QgsProcessingParameterCrs)  # every algorithm, as on the command line
