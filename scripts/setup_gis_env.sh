@@ -44,6 +44,8 @@ rm -rf "$VENV"
 "$SYSTEM_PYTHON" -m venv --system-site-packages "$VENV"
 "$VENV/bin/python" -m pip list --disable-pip-version-check --path "$SYSTEM_SITE" --format=freeze \
     > "$VENV/debian-constraints.txt"
+# matplotlib-inline 0.2 reads rcParams._get, added in matplotlib 3.7 (Debian 12 ships 3.6).
+echo "matplotlib-inline<0.2" >> "$VENV/debian-constraints.txt"
 log "installing thrustmap and its test extras into $VENV"
 "$VENV/bin/python" -m pip install -q --disable-pip-version-check \
     -c "$VENV/debian-constraints.txt" --no-binary "$NO_BINARY" \

@@ -1,7 +1,7 @@
 """Domains: spatial and attribute assignment, and per-domain statistics layers.
 
 The fold geometry checks use the synthetic folds of tests/synthetic_folds.py
-(known axis and interlimb angle, scipy.stats.vonmises_fisher noise); the
+(known axis and interlimb angle, Fisher 1953 noise); the
 layers are written through the real GeoPackage engines (pyogrio and fiona).
 """
 

@@ -6,6 +6,8 @@ REFERENCES.md); Woodcock (1977, Specification of fabric shapes using an
 eigenvalue method); Vollmer (1990, An application of eigenvalue methods to
 structural domain analysis); reference libraries mplstereonet
 (find_fisher_stats, eigenvectors) and scipy.stats (vonmises_fisher, chi2).
+Samples come from the Fisher (1953) sampler of thrustmap.synth (checked against
+mplstereonet in tests/test_synth.py), so they are the same on every scipy.
 """
 
 import warnings
@@ -13,6 +15,7 @@ import warnings
 import mplstereonet
 import numpy as np
 import pytest
+import scipy
 from hypothesis import given
 from hypothesis import strategies as st
 from scipy import stats as sps
@@ -21,13 +24,16 @@ from tests.common import LINES
 from thrustmap import stats
 from thrustmap.errors import DegenerateDataError, InputError, ParameterError, ThrustmapWarning
 from thrustmap.orientation import line_to_vector, vector_to_line
+from thrustmap.synth._model import fisher
+
+# scipy.stats.vonmises_fisher appeared in scipy 1.11 (the Debian 12 stack has 1.10).
+SCIPY_HAS_VMF = tuple(int(p) for p in scipy.__version__.split(".")[:2]) >= (1, 11)
 
 
 def fisher_sample(n, kappa, trend, plunge, seed):
-    """Directions from scipy's von Mises-Fisher sampler about a lower-hemisphere mean."""
-    mu = line_to_vector(trend, plunge)
-    x = sps.vonmises_fisher(mu, kappa).rvs(n, random_state=np.random.default_rng(seed))
-    return x
+    """Directions from a Fisher (1953) distribution about a lower-hemisphere mean."""
+    mu = np.tile(line_to_vector(trend, plunge), (n, 1))
+    return fisher(mu, kappa, np.random.default_rng(seed))
 
 
 def as_lines(x):
@@ -90,6 +96,7 @@ def test_matches_mplstereonet_find_fisher_stats(conf):
         assert s.alpha == pytest.approx(ref_angle, rel=1e-10)
 
 
+@pytest.mark.skipif(not SCIPY_HAS_VMF, reason="scipy.stats.vonmises_fisher needs scipy >= 1.11")
 def test_mean_direction_matches_scipy_vonmises_fisher():
     # Reference library: scipy.stats.vonmises_fisher.fit gives the mean direction
     # (equal to Fisher's) and the maximum-likelihood kappa (coth k - 1/k = R/N),
@@ -226,7 +233,9 @@ def test_tensor_of_one_line_is_the_line(name, trend, plunge):
         t = stats.orientation_tensor([trend], [plunge])
     from thrustmap.orientation import angle_between_lines
 
-    assert angle_between_lines(t.trend[0], t.plunge[0], trend, plunge) < 1e-6
+    # 1e-5 degrees: the arccos in angle_between_lines resolves no finer near zero
+    # (a dot product one ulp below 1 already reads 1.2e-6 degrees)
+    assert angle_between_lines(t.trend[0], t.plunge[0], trend, plunge) < 1e-5
 
 
 def test_woodcock_vollmer_values():
@@ -282,7 +291,13 @@ def test_tensor_shape_property():
 def test_fast_components_match_line_to_vector(trend, plunge):
     # The sine/square-root components equal orientation.line_to_vector.
     fast = stats._components(np.array([trend]), np.array([plunge]))[:, 0]
-    np.testing.assert_allclose(fast, line_to_vector(trend, plunge), rtol=0, atol=1e-13)
+    # At a quarter-turn trend the cosine comes from a sine of +-1, where a sine one
+    # ulp off (numpy 1.24's vectorised sin) gives sqrt(2 eps) ~ 1.5e-8: the bound
+    # documented in stats._components. Elsewhere the match is to round-off.
+    quarter = trend % 180.0 == 90.0
+    np.testing.assert_allclose(
+        fast, line_to_vector(trend, plunge), rtol=0, atol=2e-8 if quarter else 1e-13
+    )
 
 
 @given(st.floats(-720, 720), st.floats(-90, 90))

@@ -66,8 +66,8 @@ def test_out_of_sequence_thrust_flagged_from_truncation():
 
 
 def test_out_of_sequence_thrust_flagged_from_a_constraint():
-    gdf = parallel_set(4)
-    gdf.loc[len(gdf)] = ["X", "thrust X", "left", np.nan, 30.0, line((1500, 0), (1500, 10000))]
+    x = traces([("X", line((1500, 0), (1500, 10000)), "left", None)])
+    gdf = pd.concat([parallel_set(4), x], ignore_index=True)  # keeps the CRS on geopandas 1.0
     constraints = pd.DataFrame({"younger": ["X"], "older": ["T4"], "note": ["growth strata"]})
     result = analyze_east(gdf, (-500, 0, 3500, 10000), age_constraints=constraints)
     assert result.order == ["T1", "T2", "T3", "T4", "X"]

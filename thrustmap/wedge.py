@@ -614,8 +614,13 @@ def critical_pore_ratio(
         return float(_taper_residual(np.asarray(a), np.asarray(b), wedge_at(lam), "compressional"))
 
     f0, f1 = f(0.0), f(hi)
-    if f0 == 0:
+    # a wedge critical at a bracket end leaves a round-off residual (~1e-17 rad) whose
+    # sign is arbitrary; taken literally it would hide the root on that end
+    roundoff = 1e-12
+    if abs(f0) <= roundoff:
         return 0.0
+    if abs(f1) <= roundoff:
+        return float(hi)
     if np.sign(f0) == np.sign(f1):
         state = "super-critical" if f0 > 0 else "sub-critical"
         tied = "lambda_b tied to lambda" if basal_pore_ratio is None else f"lambda_b = {basal_pore_ratio}"
