@@ -741,6 +741,7 @@ def assess_wedge(
     tolerance: float = 0.25,
     samples: int = 10000,
     seed: int = 0,
+    uncertainty: TaperUncertainty | None = None,
 ) -> pd.DataFrame:
     """One-row summary of a measured wedge: critical slopes, state, probabilities, critical lambda.
 
@@ -748,6 +749,9 @@ def assess_wedge(
     ----------
     alpha, beta, alpha_sd, beta_sd, tolerance, samples, seed
         As for :func:`state_probabilities`.
+    uncertainty : TaperUncertainty, optional
+        The :func:`state_probabilities` result for these same inputs, when the
+        caller already has it (e.g. for a figure); computed otherwise.
     friction, basal_friction, pore_ratio, basal_pore_ratio, setting, method, fluid_density, rock_density
         As for :func:`critical_taper`.
 
@@ -780,8 +784,10 @@ def assess_wedge(
     b = np.radians(float(beta))
     alpha_c = float(np.degrees(_critical_alpha(np.asarray(b), w, "compressional")))
     alpha_e = float(np.degrees(_critical_alpha(np.asarray(b), w, "extensional")))
-    odds = state_probabilities(alpha, beta, alpha_sd=alpha_sd, beta_sd=beta_sd, tolerance=tolerance,
-                               samples=samples, seed=seed, **kw)
+    odds = uncertainty
+    if odds is None:
+        odds = state_probabilities(alpha, beta, alpha_sd=alpha_sd, beta_sd=beta_sd,
+                                   tolerance=tolerance, samples=samples, seed=seed, **kw)
     notes = []
     try:
         lam = critical_pore_ratio(alpha, beta, friction=friction, basal_friction=basal_friction,

@@ -140,12 +140,12 @@ def _wedge_taper(
               basal_pore_ratio=basal_pore_ratio, setting=setting, method=method,
               fluid_density=fluid_density, rock_density=rock_density)
     sd = alpha_sd or 0.0
-    taper = assess_wedge(alpha, beta, alpha_sd=sd, beta_sd=beta_sd, tolerance=tolerance,
-                         samples=samples, seed=seed, **kw)
-    taper.insert(1, "alpha_source", source)
-    env = envelope(**kw)
     odds = state_probabilities(alpha, beta, alpha_sd=sd, beta_sd=beta_sd, tolerance=tolerance,
                                samples=samples, seed=seed, **kw)
+    taper = assess_wedge(alpha, beta, alpha_sd=sd, beta_sd=beta_sd, tolerance=tolerance,
+                         samples=samples, seed=seed, uncertainty=odds, **kw)
+    taper.insert(1, "alpha_source", source)
+    env = envelope(**kw)
     draw = figure_writer(lambda: plot_envelope(
         env, alpha=alpha, beta=beta, alpha_sd=sd, beta_sd=beta_sd, uncertainty=odds,
         title=f"Critical taper ({method}, {setting}): {taper['state'].iloc[0]}"), uses=2)
